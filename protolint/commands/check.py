@@ -1,0 +1,93 @@
+"""``protolint check``: validate plans, run the rules, report."""
+
+from __future__ import annotations
+
+import os
+import sys
+from datetime import date
+
+import click
+
+from protolint import __version__
+from protolint.errors import ProtolintError
+from protolint.findings import CheckResult, PlanResult, Severity
+
+FORMATS = ("text", "json", "sarif", "junit", "markdown")
+
+
+def _parse_as_of(ctx: click.Context, param: click.Parameter, value: str | None) -> date | None:
+    if value is None:
+        return None
+    try:
+        return date.fromisoformat(value)
+    except ValueError:
+        raise click.BadParameter(f"{value!r} is not a date written YYYY-MM-DD") from None
+
+
+@click.command("check")
+@click.argument("plans", nargs=-1, required=True, metavar="PLAN...")
+@click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True,
+              help="Report format.")
+@click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write the report to this file instead of standard output.")
+@click.option("--policy", type=click.Path(dir_okay=False), help="Policy file that switches rules off or changes severities and thresholds.")
+@click.option("--fail-on", type=click.Choice(["error", "warning", "note", "never"]), default="error", show_default=True,
+              help="Lowest severity that makes the exit code 1.")
+@click.option("--as-of", callback=_parse_as_of, metavar="YYYY-MM-DD",
+              help="Date the date rules compare with (default: each plan's plan_date).")
+@click.option("--color/--no-color", default=None, help="Colour the text report (default: on a terminal, unless NO_COLOR is set).")
+def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | None, fail_on: str,
+            as_of: date | None, color: bool | None) -> None:
+    """Check measurement plans against the schema and the rules.
+
+    Exit code 0 when nothing at or above --fail-on was found, 1 when something was,
+    2 when a plan or the policy could not be read.
+
+    \b
+    Examples:
+      protolint check demo_protocol/plan.yaml
+      protolint check plans/*.yaml --format sarif --output protolint.sarif
+      protolint check plan.yaml --as-of 2027-01-01 --fail-on warning
+    """
+    from protolint.plan import load_plan, read_source
+    from protolint.report import render_report
+    from protolint.rules.engine import check_loaded
+    from protolint.rules.policy import DEFAULT_POLICY, read_policy
+    from protolint.rules.registry import all_rules
+
+    rules = all_rules()
+    metas = {rule.meta.id: rule.meta for rule in rules}
+    chosen_policy = read_policy(policy, metas) if policy else DEFAULT_POLICY
+
+    results: list[PlanResult] = []
+    unreadable = 0
+    for file in plans:
+        try:
+            source = read_source(file)
+        except ProtolintError as error:
+            error.show()
+            unreadable += 1
+            continue
+        loaded = load_plan(source, metas)
+        results.append(check_loaded(loaded, chosen_policy, as_of, rules))
+
+    result = CheckResult(plans=tuple(results), tool_version=__version__)
+    ran = sorted({rule_id for plan in results for rule_id in plan.rules_run})
+    if color is None:
+        color = output is None and sys.stdout.isatty() and not os.environ.get("NO_COLOR")
+    report = render_report(fmt, result, [metas[i] for i in ran], color=color)
+    if output:
+        from protolint.atomic import write_atomic
+
+        write_atomic(output, report)
+        counts = result.counts()
+        click.echo(f"protolint: wrote {fmt} report to {output} ({counts['error']} errors, {counts['warning']} warnings, "
+                   f"{counts['note']} notes, {counts['waived']} waived)", err=True)
+    else:
+        click.echo(report, nl=not report.endswith("\n"))
+
+    if unreadable:
+        sys.exit(2)
+    if fail_on != "never":
+        level = Severity.parse(fail_on)
+        if any(f.severity >= level and not f.waived for plan in results for f in plan.findings):
+            sys.exit(1)

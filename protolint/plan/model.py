@@ -1,0 +1,468 @@
+"""The typed, immutable model of a measurement plan.
+
+Field names are the plan's keys (see ``schemas/plan.schema.json`` for what each means). Every
+object remembers ``path``, its place in the plan data, so a rule can report a finding at
+``obj.path + ("key",)`` and the engine turns that into ``file:line:column``.
+
+The model is built only from data that already matches the schema and whose references
+resolve, so builders do not re-validate.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import types
+import typing
+from dataclasses import dataclass
+from datetime import date
+from functools import lru_cache
+from typing import Any, TypeVar
+
+Path = tuple[str | int, ...]
+
+RATER_KINDS = frozenset({"clinician-rated", "observer-rated", "performance"})
+
+
+@dataclass(frozen=True)
+class Amendment:
+    path: Path
+    id: str
+    effective: date
+    version: str | None = None
+    summary: str | None = None
+    affects_instruments: tuple[str, ...] = ()
+    changes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Protocol:
+    path: Path
+    id: str
+    version: str
+    date: date
+    amendments: tuple[Amendment, ...] = ()
+
+
+@dataclass(frozen=True)
+class Population:
+    path: Path
+    condition: str | None = None
+    severity: str | None = None
+    age_group: str | None = None
+    setting: str | None = None
+    language: str | None = None
+
+    FIELDS: typing.ClassVar[tuple[str, ...]] = ("condition", "severity", "age_group", "setting", "language")
+
+
+@dataclass(frozen=True)
+class Arm:
+    path: Path
+    id: str
+    ratio: float
+    name: str | None = None
+
+
+@dataclass(frozen=True)
+class Site:
+    path: Path
+    id: str
+    name: str
+    country: str | None = None
+    first_assessment: date | None = None
+
+
+@dataclass(frozen=True)
+class Study:
+    path: Path
+    id: str
+    title: str
+    design: str
+    arms: tuple[Arm, ...]
+    first_assessment: date
+    enrolment_weeks: int
+    treatment_weeks: int
+    sites: tuple[Site, ...]
+    sponsor: str | None = None
+    phase: str | None = None
+    masking: str | None = None
+    population: Population | None = None
+
+    def site(self, site_id: str) -> Site:
+        return next(site for site in self.sites if site.id == site_id)
+
+
+@dataclass(frozen=True)
+class Scale:
+    path: Path
+    type: str
+    min: float | None = None
+    max: float | None = None
+    items: int | None = None
+    levels: int | None = None
+
+
+@dataclass(frozen=True)
+class Evidence:
+    path: Path
+    id: str
+    type: str
+    coefficient: str
+    value: float
+    ci: tuple[float, ...] | None = None
+    ci_level: float | None = None
+    subjects: int | None = None
+    raters: int | None = None
+    averaged_over: int | None = None
+    no_systematic_difference: bool | None = None
+    sem: float | None = None
+    sdc: float | None = None
+    population: Population | None = None
+    rater_profession: str | None = None
+    rater_experience: str | None = None
+    administration: str | None = None
+    instrument_version: str | None = None
+    language: str | None = None
+    citation: str | None = None
+
+
+@dataclass(frozen=True)
+class Instrument:
+    path: Path
+    id: str
+    name: str
+    kind: str
+    scale: Scale
+    version: str | None = None
+    language: str | None = None
+    administration: str | None = None
+    score_sd: float | None = None
+    conventions: str | None = None
+    evidence: tuple[Evidence, ...] = ()
+
+    @property
+    def is_rated_by_people(self) -> bool:
+        return self.kind in RATER_KINDS
+
+
+@dataclass(frozen=True)
+class Cutoff:
+    path: Path
+    kind: str
+    value: float
+    description: str | None = None
+    confirmation: str | None = None
+
+
+@dataclass(frozen=True)
+class OutcomeUse:
+    path: Path
+    individual_decisions: bool | None = None
+    thresholds: tuple[Cutoff, ...] = ()
+
+
+@dataclass(frozen=True)
+class Endpoint:
+    path: Path
+    id: str
+    instrument: str
+    role: str
+    analysis: str
+    visits: tuple[str, ...]
+    rater_pool: str
+    raters_per_assessment: int
+    rating_mode: str
+    name: str | None = None
+    occasions_per_assessment: int | None = None
+    combination: str | None = None
+    same_rater_across_visits: bool | None = None
+    rater_assignment: str | None = None
+    continuity_fallback: str | None = None
+    blinded_to: tuple[str, ...] | None = None
+    rater_roles: tuple[str, ...] = ()
+    unblinding_mitigation: str | None = None
+    prior_scores_safeguard: str | None = None
+    use: OutcomeUse | None = None
+
+    @property
+    def label(self) -> str:
+        return self.name or self.id
+
+
+@dataclass(frozen=True)
+class Visit:
+    path: Path
+    id: str
+    day: int
+    name: str | None = None
+    window_before: int | None = None
+    window_after: int | None = None
+
+
+@dataclass(frozen=True)
+class Schedule:
+    path: Path
+    visits: tuple[Visit, ...]
+    out_of_window: str | None = None
+
+
+@dataclass(frozen=True)
+class Criterion:
+    path: Path
+    coefficient: str | None = None
+    minimum: float | None = None
+    max_deviation: float | None = None
+    within_fraction: float | None = None
+
+
+@dataclass(frozen=True)
+class Qualifications:
+    path: Path
+    profession: tuple[str, ...] = ()
+    min_experience_years: float | None = None
+    scale_experience: str | None = None
+    languages: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Training:
+    path: Path
+    content: tuple[str, ...] = ()
+    format: str | None = None
+    trainer: str | None = None
+    hours: float | None = None
+    days_before_first_rating: int | None = None
+    records: str | None = None
+
+
+@dataclass(frozen=True)
+class Certification:
+    path: Path
+    method: str | None = None
+    cases: int | None = None
+    expected_icc: float | None = None
+    reference_scores: str | None = None
+    criterion: Criterion | None = None
+    attempts: int | None = None
+
+
+@dataclass(frozen=True)
+class Recertification:
+    path: Path
+    interval_months: int | None = None
+    triggers: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Monitoring:
+    path: Path
+    interval_weeks: int | None = None
+    method: tuple[str, ...] = ()
+    duplicate_fraction: float | None = None
+    metrics: tuple[str, ...] = ()
+    drift_threshold: Criterion | None = None
+    remediation: str | None = None
+    reviewer: str | None = None
+
+
+@dataclass(frozen=True)
+class RaterPool:
+    path: Path
+    id: str
+    instruments: tuple[str, ...]
+    name: str | None = None
+    location: str | None = None
+    sites: tuple[str, ...] | None = None
+    raters_per_site: int | None = None
+    arm_assignment: str | None = None
+    qualifications: Qualifications | None = None
+    training: Training | None = None
+    certification: Certification | None = None
+    recertification: Recertification | None = None
+    monitoring: Monitoring | None = None
+    turnover: str | None = None
+    unblinding_procedure: str | None = None
+
+    @property
+    def label(self) -> str:
+        return self.name or self.id
+
+
+@dataclass(frozen=True)
+class RaterCertification:
+    path: Path
+    instrument: str
+    date: date
+    version: str | None = None
+    expires: date | None = None
+
+
+@dataclass(frozen=True)
+class Rater:
+    path: Path
+    id: str
+    pool: str
+    site: str | None = None
+    profession: str | None = None
+    experience_years: float | None = None
+    first_rating: date | None = None
+    certifications: tuple[RaterCertification, ...] = ()
+
+
+@dataclass(frozen=True)
+class SampleSize:
+    path: Path
+    endpoint: str
+    alpha: float
+    power: float
+    stated_n_total: int
+    effect_size: float | None = None
+    difference: float | None = None
+    sd: float | None = None
+    effect_basis: str | None = None
+    source_reliability: float | None = None
+    sides: int | None = None
+    dropout: float | None = None
+    assumed_reliability: float | None = None
+
+    @property
+    def standardised_effect(self) -> float | None:
+        if self.effect_size is not None:
+            return self.effect_size
+        if self.difference is not None and self.sd:
+            return self.difference / self.sd
+        return None
+
+
+@dataclass(frozen=True)
+class Approval:
+    path: Path
+    name: str
+    date: date
+    role: str | None = None
+    meaning: str | None = None
+
+
+@dataclass(frozen=True)
+class Coverage:
+    path: Path
+    instruments: tuple[str, ...] = ()
+    procedures: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True)
+class Revision:
+    path: Path
+    version: str
+    date: date
+    summary: str | None = None
+
+
+@dataclass(frozen=True)
+class Sop:
+    path: Path
+    id: str
+    title: str
+    version: str
+    effective: date
+    status: str | None = None
+    review_due: date | None = None
+    owner: str | None = None
+    approvals: tuple[Approval, ...] = ()
+    covers: Coverage | None = None
+    summary: str | None = None
+    revisions: tuple[Revision, ...] = ()
+
+
+@dataclass(frozen=True)
+class Deviation:
+    path: Path
+    kind: str
+    handling: str
+    important: bool | None = None
+
+
+@dataclass(frozen=True)
+class Waiver:
+    path: Path
+    rule: str
+    reason: str
+    approved_by: str
+    date: date
+    target: str | None = None
+    expires: date | None = None
+
+
+@dataclass(frozen=True)
+class Plan:
+    path: Path
+    format_version: int
+    plan_date: date
+    study: Study
+    instruments: tuple[Instrument, ...]
+    endpoints: tuple[Endpoint, ...]
+    schedule: Schedule
+    rater_pools: tuple[RaterPool, ...]
+    protocol: Protocol | None = None
+    roster: tuple[Rater, ...] = ()
+    sample_size: SampleSize | None = None
+    sops: tuple[Sop, ...] = ()
+    deviations: tuple[Deviation, ...] = ()
+    waivers: tuple[Waiver, ...] = ()
+
+    def instrument(self, instrument_id: str) -> Instrument:
+        return next(item for item in self.instruments if item.id == instrument_id)
+
+    def endpoint(self, endpoint_id: str) -> Endpoint:
+        return next(item for item in self.endpoints if item.id == endpoint_id)
+
+    def pool(self, pool_id: str) -> RaterPool:
+        return next(item for item in self.rater_pools if item.id == pool_id)
+
+    def visit(self, visit_id: str) -> Visit:
+        return next(item for item in self.schedule.visits if item.id == visit_id)
+
+    def endpoints_for(self, instrument_id: str) -> tuple[Endpoint, ...]:
+        return tuple(item for item in self.endpoints if item.instrument == instrument_id)
+
+
+T = TypeVar("T")
+
+
+def build_plan(data: dict[str, Any]) -> Plan:
+    """Build the typed plan from schema-valid data."""
+    return _build(Plan, data, ())
+
+
+@lru_cache(maxsize=None)
+def _hints(cls: type) -> dict[str, Any]:
+    return typing.get_type_hints(cls)
+
+
+def _build(cls: type[T], data: dict[str, Any], path: Path) -> T:
+    hints = _hints(cls)
+    values: dict[str, Any] = {"path": path}
+    for field in dataclasses.fields(cls):  # type: ignore[arg-type]
+        if field.name == "path" or field.name not in data:
+            continue
+        values[field.name] = _convert(hints[field.name], data[field.name], path + (field.name,))
+    return cls(**values)
+
+
+def _convert(hint: Any, raw: Any, path: Path) -> Any:
+    if raw is None:
+        return None
+    origin = typing.get_origin(hint)
+    if origin in (typing.Union, types.UnionType):
+        inner = [arg for arg in typing.get_args(hint) if arg is not type(None)]
+        return _convert(inner[0], raw, path)
+    if origin is tuple:
+        item_hint = typing.get_args(hint)[0]
+        return tuple(_convert(item_hint, item, path + (index,)) for index, item in enumerate(raw))
+    if hint is date:
+        return date.fromisoformat(raw)
+    if hint is float:
+        return float(raw)
+    if dataclasses.is_dataclass(hint):
+        return _build(hint, raw, path)
+    return raw

@@ -1,0 +1,156 @@
+"""Validate plan data against the JSON Schema and turn each violation into a located finding.
+
+Messages are written for a protocol writer: they name the key, the value and what was
+expected, never the validator's internals.
+"""
+
+from __future__ import annotations
+
+import difflib
+from functools import lru_cache
+from typing import Any, Iterator
+
+from protolint.findings import Finding, Location, Severity, pointer_from_path
+from protolint.plan.source import LoadedSource, Path, SourceMap
+from protolint.resources import load_schema
+
+PLAN_SCHEMA = "plan.schema.json"
+
+_TYPE_WORDS = {
+    "string": "text",
+    "integer": "a whole number",
+    "number": "a number",
+    "boolean": "true or false",
+    "array": "a list",
+    "object": "a mapping of keys to values",
+    "null": "empty",
+}
+
+
+@lru_cache(maxsize=None)
+def validator_for(schema_name: str):  # noqa: ANN201 - jsonschema's validator class
+    from jsonschema import Draft202012Validator
+
+    schema = load_schema(schema_name)
+    # Formats are only annotations in draft 2020-12 unless a checker is passed explicitly.
+    return Draft202012Validator(schema, format_checker=Draft202012Validator.FORMAT_CHECKER)
+
+
+def locate(source_map: SourceMap, path: Path, *, at_key: bool = False) -> Location:
+    span = source_map.span(path)
+    if at_key:
+        return Location(span.key_line, span.key_column)
+    return Location(span.value_line, span.value_column, span.end_line, span.end_column)
+
+
+def schema_findings(source: LoadedSource, schema_name: str = PLAN_SCHEMA) -> list[Finding]:
+    validator = validator_for(schema_name)
+    findings = [
+        _finding(error, source) for error in validator.iter_errors(source.data)
+    ]
+    return sorted(findings, key=Finding.sort_key)
+
+
+def _finding(error: Any, source: LoadedSource) -> Finding:
+    path: Path = tuple(error.absolute_path)
+    rule, message, where, at_key = _describe(error, path)
+    return Finding(
+        rule=rule,
+        severity=Severity.ERROR,
+        message=message,
+        file=source.file,
+        location=locate(source.source_map, where, at_key=at_key),
+        pointer=pointer_from_path(where),
+    )
+
+
+def _name(path: Path) -> str:
+    """How to speak of a place in the plan: 'endpoints[1].visits' style."""
+    if not path:
+        return "the plan"
+    text = ""
+    for part in path:
+        text += f"[{part}]" if isinstance(part, int) else (f".{part}" if text else str(part))
+    return text
+
+
+def _show(value: Any) -> str:
+    text = repr(value) if isinstance(value, str) else str(value).lower() if isinstance(value, bool) else str(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def _describe(error: Any, path: Path) -> tuple[str, str, Path, bool]:
+    """(rule id, message, path to point at, point at the key rather than the value)."""
+    kind = error.validator
+    schema = error.schema
+    instance = error.instance
+    if kind == "required":
+        missing = _quoted_key(error.message)
+        return "schema/missing-key", f"{_name(path)} is missing the required key {missing!r}", path, True
+    if kind == "additionalProperties":
+        allowed = sorted(schema.get("properties", {}))
+        extras = sorted(set(instance) - set(allowed)) if isinstance(instance, dict) else []
+        key = extras[0] if extras else ""
+        hint = _suggest(key, allowed)
+        where = f" in {_name(path)}" if path else " at the top level"
+        message = f"unknown key {key!r}{where}{hint}"
+        if len(extras) > 1:
+            message += f" (also unknown: {', '.join(repr(e) for e in extras[1:])})"
+        return "schema/unknown-key", message, path + (key,), True
+    if kind == "type":
+        expected = schema["type"]
+        expected = [expected] if isinstance(expected, str) else expected
+        words = " or ".join(_TYPE_WORDS.get(t, t) for t in expected)
+        return "schema/wrong-type", f"{_name(path)} should be {words}, not {_show(instance)}", path, False
+    if kind == "enum":
+        options = [str(o) for o in schema["enum"]]
+        hint = _suggest(str(instance), options)
+        listing = ", ".join(options) if len(options) <= 12 else ", ".join(options[:12]) + ", …"
+        return "schema/value-not-allowed", f"{_name(path)} is {_show(instance)}; expected one of: {listing}{hint}", path, False
+    if kind == "const":
+        return "schema/value-not-allowed", f"{_name(path)} must be {_show(schema['const'])}, not {_show(instance)}", path, False
+    if kind == "format":
+        if schema.get("format") == "date":
+            return "schema/invalid-date", f"{_name(path)} is {_show(instance)}, which is not a real calendar date written YYYY-MM-DD", path, False
+        return "schema/invalid-form", f"{_name(path)} is not a valid {schema.get('format')}", path, False
+    if kind in ("minimum", "exclusiveMinimum", "maximum", "exclusiveMaximum"):
+        bound = schema[kind]
+        relation = {
+            "minimum": f"at least {bound}",
+            "exclusiveMinimum": f"greater than {bound}",
+            "maximum": f"at most {bound}",
+            "exclusiveMaximum": f"less than {bound}",
+        }[kind]
+        return "schema/out-of-range", f"{_name(path)} is {_show(instance)}; it must be {relation}", path, False
+    if kind == "minItems":
+        count = schema["minItems"]
+        return "schema/out-of-range", f"{_name(path)} needs at least {count} entr{'y' if count == 1 else 'ies'}", path, False
+    if kind == "maxItems":
+        return "schema/out-of-range", f"{_name(path)} has more than {schema['maxItems']} entries", path, False
+    if kind == "minLength":
+        return "schema/out-of-range", f"{_name(path)} must not be empty", path, False
+    if kind == "maxLength":
+        return "schema/out-of-range", f"{_name(path)} is longer than {schema['maxLength']} characters", path, False
+    if kind == "uniqueItems":
+        return "schema/value-not-allowed", f"{_name(path)} lists the same entry more than once", path, False
+    if kind == "pattern":
+        purpose = schema.get("description", "")
+        return "schema/invalid-form", f"{_name(path)} is {_show(instance)}, which is not of the expected form. {purpose}".strip(), path, False
+    return "schema/invalid-form", f"{_name(path)}: {error.message}", path, False
+
+
+def _quoted_key(message: str) -> str:
+    # jsonschema: "'name' is a required property"
+    if message.startswith("'") and "'" in message[1:]:
+        return message[1 : message.index("'", 1)]
+    return message
+
+
+def _suggest(value: str, options: list[str]) -> str:
+    close = difflib.get_close_matches(value, options, n=1, cutoff=0.6)
+    return f" (did you mean {close[0]!r}?)" if close else ""
+
+
+def iter_schema_rule_ids() -> Iterator[str]:
+    yield from ("schema/missing-key", "schema/unknown-key", "schema/wrong-type", "schema/value-not-allowed",
+                "schema/invalid-date", "schema/out-of-range", "schema/invalid-form")

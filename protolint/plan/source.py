@@ -1,0 +1,308 @@
+"""YAML text -> plain data plus a source map of every key and value.
+
+Only safe YAML is accepted. The loader composes PyYAML's node tree (nothing is constructed by
+PyYAML) and converts it itself, so that:
+
+* scalars follow YAML 1.2 core-schema typing, not PyYAML's 1.1 defaults: ``NO`` and ``yes``
+  stay strings, ``1:30`` stays a string, dates stay strings (the schema checks them), and a
+  number written with a leading zero such as ``0755`` stays the text the writer typed (it is
+  an identifier far more often than an octal number);
+* any explicit tag other than the core ones (``!!str``, ``!!int`` …) is refused, so
+  ``!!python/...`` is never constructed;
+* duplicate keys are an error at the second occurrence;
+* input size, nesting depth and alias expansion are bounded, so a "billion laughs" document
+  is refused quickly instead of being expanded.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import re
+from dataclasses import dataclass
+from typing import Any
+
+import yaml
+
+from protolint.errors import LocatedError
+
+MAX_BYTES = 2 * 1024 * 1024
+MAX_DEPTH = 64
+MAX_NODES = 200_000
+"""Nodes visited while converting, counting every expansion of an alias."""
+
+_PLAIN = "tag:protolint:plain"
+_CORE = "tag:yaml.org,2002:"
+_ALLOWED_TAGS = {_CORE + t for t in ("str", "int", "float", "bool", "null", "seq", "map")}
+
+# YAML 1.2 core schema (https://yaml.org/spec/1.2.2/#1032-tag-resolution), minus the
+# leading-zero integers described in the module docstring.
+_NULL = re.compile(r"^(?:~|null|Null|NULL|)$")
+_TRUE = re.compile(r"^(?:true|True|TRUE)$")
+_FALSE = re.compile(r"^(?:false|False|FALSE)$")
+_INT10 = re.compile(r"^[-+]?(?:0|[1-9][0-9]*)$")
+_INT8 = re.compile(r"^0o[0-7]+$")
+_INT16 = re.compile(r"^0x[0-9a-fA-F]+$")
+_FLOAT = re.compile(r"^[-+]?(?:\.[0-9]+|(?:0|[1-9][0-9]*)(?:\.[0-9]*)?)(?:[eE][-+]?[0-9]+)?$")
+_SPECIAL_FLOAT = re.compile(r"^(?:[-+]?\.(?:inf|Inf|INF)|\.(?:nan|NaN|NAN))$")
+
+_BOMS = {
+    b"\xff\xfe\x00\x00": "UTF-32",
+    b"\x00\x00\xfe\xff": "UTF-32",
+    b"\xff\xfe": "UTF-16",
+    b"\xfe\xff": "UTF-16",
+}
+_ODD_LINE_BREAKS = {"\u2028": "LINE SEPARATOR", "\u2029": "PARAGRAPH SEPARATOR", "\u0085": "NEXT LINE"}
+
+Path = tuple[str | int, ...]
+
+
+@dataclass(frozen=True)
+class Span:
+    """1-based start of a key and of its value (for list items both are the item's start)."""
+
+    key_line: int
+    key_column: int
+    value_line: int
+    value_column: int
+    end_line: int
+    end_column: int
+
+
+@dataclass(frozen=True)
+class SourceMap:
+    """Where each data path of a plan was written."""
+
+    file: str
+    spans: dict[Path, Span]
+
+    def span(self, path: Path) -> Span:
+        """The span of ``path``, or of its nearest ancestor that was written in the file."""
+        probe = tuple(path)
+        while probe not in self.spans and probe:
+            probe = probe[:-1]
+        return self.spans.get(probe) or Span(1, 1, 1, 1, 1, 1)
+
+
+@dataclass(frozen=True)
+class LoadedSource:
+    file: str
+    data: Any
+    source_map: SourceMap
+    sha256: str
+    text: str
+
+
+def _plain_tag_loader() -> type:
+    base = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+
+    class PlainTaggingLoader(base):  # type: ignore[misc, valid-type]
+        """Tags every plain scalar with a private tag so that we, not PyYAML, type it."""
+
+        def resolve(self, kind, value, implicit):  # noqa: ANN001 - PyYAML's signature
+            if kind is yaml.ScalarNode and implicit[0]:
+                return _PLAIN
+            return super().resolve(kind, value, implicit)
+
+    return PlainTaggingLoader
+
+
+_LOADER = _plain_tag_loader()
+
+
+def load_source(raw: bytes, file: str) -> LoadedSource:
+    """Parse plan bytes. Raises :class:`LocatedError` for anything that is not a safe YAML mapping."""
+    if len(raw) > MAX_BYTES:
+        raise LocatedError(file, 1, 1, f"file is {len(raw)} bytes; plans are limited to {MAX_BYTES} bytes")
+    text = _decode(raw, file)
+    try:
+        root = yaml.compose(text, Loader=_LOADER)
+    except yaml.MarkedYAMLError as error:
+        raise _yaml_error(error, text, file) from None
+    except yaml.YAMLError as error:  # ReaderError and friends carry only a position
+        raise LocatedError(file, 1, 1, f"not valid YAML: {error}") from None
+    except RecursionError:
+        raise LocatedError(file, 1, 1, f"nesting is deeper than {MAX_DEPTH} levels") from None
+    if root is None:
+        raise LocatedError(file, 1, 1, "the file is empty; a plan is a YAML mapping of keys to values")
+    _check_expansion(root, file)
+    converter = _Converter(file)
+    data = converter.convert(root, (), depth=0, ancestors=())
+    if not isinstance(data, dict):
+        raise LocatedError(file, root.start_mark.line + 1, root.start_mark.column + 1,
+                           "a plan must be a YAML mapping (key: value pairs) at the top level")
+    return LoadedSource(
+        file=file,
+        data=data,
+        source_map=SourceMap(file, converter.spans),
+        sha256=hashlib.sha256(raw).hexdigest(),
+        text=text,
+    )
+
+
+def _decode(raw: bytes, file: str) -> str:
+    for bom, name in _BOMS.items():
+        if raw.startswith(bom):
+            raise LocatedError(file, 1, 1, f"file is {name} encoded; save it as UTF-8")
+    if raw.startswith(b"\xef\xbb\xbf"):
+        raw = raw[3:]
+    if b"\x00" in raw[:4096]:
+        raise LocatedError(file, 1, 1, "file contains NUL bytes (UTF-16 or binary?); save it as UTF-8 text")
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as error:
+        line, column = _line_column(raw[: error.start].decode("utf-8", errors="replace"))
+        raise LocatedError(file, line, column, f"byte 0x{raw[error.start]:02x} is not valid UTF-8; save the file as UTF-8") from None
+    for char, name in _ODD_LINE_BREAKS.items():
+        index = text.find(char)
+        if index >= 0:
+            line, column = _line_column(text[:index])
+            # PyYAML counts these as line breaks while editors do not, which would shift every
+            # reported line after them.
+            raise LocatedError(file, line, column, f"the character U+{ord(char):04X} {name} is not allowed; use a plain line break")
+    return text
+
+
+def _line_column(prefix: str) -> tuple[int, int]:
+    line = prefix.count("\n") + 1
+    column = len(prefix) - (prefix.rfind("\n") + 1) + 1
+    return line, column
+
+
+def _yaml_error(error: yaml.MarkedYAMLError, text: str, file: str) -> LocatedError:
+    mark = error.problem_mark or error.context_mark
+    line = mark.line + 1 if mark else 1
+    column = mark.column + 1 if mark else 1
+    problem = error.problem or "not valid YAML"
+    lines = text.splitlines()
+    offending = lines[mark.line] if mark and mark.line < len(lines) else ""
+    if "\t" in problem or (mark and mark.column < len(offending) and offending[mark.column:mark.column + 1] == "\t"):
+        return LocatedError(file, line, column, "a tab character is used for indentation; YAML needs spaces")
+    if "maximum nesting depth" in problem:
+        return LocatedError(file, line, column, f"nesting is deeper than {MAX_DEPTH} levels")
+    message = problem
+    if error.context:
+        message = f"{error.context}: {problem}"
+    return LocatedError(file, line, column, f"not valid YAML: {message}")
+
+
+def _check_expansion(root: yaml.Node, file: str) -> None:
+    """Refuse documents whose aliases would expand past MAX_NODES, before expanding anything.
+
+    Sizes are memoised per node, so this costs one visit per distinct node even for a
+    "billion laughs" document.
+    """
+    sizes: dict[int, int] = {}
+    in_progress: set[int] = set()
+
+    def size(node: yaml.Node, depth: int) -> int:
+        known = sizes.get(id(node))
+        if known is not None:
+            return known
+        if id(node) in in_progress:
+            raise LocatedError(file, node.start_mark.line + 1, node.start_mark.column + 1,
+                               "an alias refers to a node that contains it (a cycle)")
+        if depth > MAX_DEPTH:
+            raise LocatedError(file, node.start_mark.line + 1, node.start_mark.column + 1,
+                               f"nesting is deeper than {MAX_DEPTH} levels")
+        in_progress.add(id(node))
+        total = 1
+        if isinstance(node, yaml.SequenceNode):
+            total += sum(size(child, depth + 1) for child in node.value)
+        elif isinstance(node, yaml.MappingNode):
+            total += sum(size(k, depth + 1) + size(v, depth + 1) for k, v in node.value)
+        in_progress.discard(id(node))
+        if total > MAX_NODES:
+            raise LocatedError(file, node.start_mark.line + 1, node.start_mark.column + 1,
+                               f"the document expands to more than {MAX_NODES} values (an alias repeated too often?)")
+        sizes[id(node)] = total
+        return total
+
+    size(root, 0)
+
+
+class _Converter:
+    def __init__(self, file: str) -> None:
+        self.file = file
+        self.spans: dict[Path, Span] = {}
+
+    def fail(self, node: yaml.Node, message: str) -> LocatedError:
+        return LocatedError(self.file, node.start_mark.line + 1, node.start_mark.column + 1, message)
+
+    def record(self, path: Path, key: yaml.Node | None, value: yaml.Node) -> None:
+        if path in self.spans:  # an alias expanded again: keep the first place it was written
+            return
+        key = key or value
+        self.spans[path] = Span(
+            key.start_mark.line + 1, key.start_mark.column + 1,
+            value.start_mark.line + 1, value.start_mark.column + 1,
+            value.end_mark.line + 1, value.end_mark.column + 1,
+        )
+
+    def convert(self, node: yaml.Node, path: Path, depth: int, ancestors: tuple[int, ...]) -> Any:
+        if depth > MAX_DEPTH:
+            raise self.fail(node, f"nesting is deeper than {MAX_DEPTH} levels")
+        if id(node) in ancestors:
+            raise self.fail(node, "an alias refers to a node that contains it (a cycle)")
+        if node.tag not in _ALLOWED_TAGS and node.tag != _PLAIN:
+            raise self.fail(node, f"the tag {node.tag!r} is not allowed; plans use plain YAML values only")
+        if isinstance(node, yaml.ScalarNode):
+            return self.scalar(node)
+        inner = ancestors + (id(node),)
+        if isinstance(node, yaml.SequenceNode):
+            if node.tag != _CORE + "seq":
+                raise self.fail(node, f"the tag {node.tag!r} does not fit a list")
+            items = []
+            for index, child in enumerate(node.value):
+                self.record(path + (index,), None, child)
+                items.append(self.convert(child, path + (index,), depth + 1, inner))
+            return items
+        if node.tag != _CORE + "map":
+            raise self.fail(node, f"the tag {node.tag!r} does not fit a mapping")
+        mapping: dict[str, Any] = {}
+        first_seen: dict[str, yaml.Node] = {}
+        for key_node, value_node in node.value:
+            if not isinstance(key_node, yaml.ScalarNode):
+                raise self.fail(key_node, "a key must be a plain word, not a list or mapping")
+            key = key_node.value
+            if key == "<<" and key_node.tag == _PLAIN:
+                raise self.fail(key_node, "merge keys ('<<') are not supported; write the keys out")
+            if key in first_seen:
+                first = first_seen[key].start_mark
+                raise self.fail(key_node, f"duplicate key {key!r} (first written at line {first.line + 1}, column {first.column + 1})")
+            first_seen[key] = key_node
+            self.record(path + (key,), key_node, value_node)
+            mapping[key] = self.convert(value_node, path + (key,), depth + 1, inner)
+        return mapping
+
+    def scalar(self, node: yaml.ScalarNode) -> Any:
+        value = node.value
+        tag = node.tag
+        if tag == _CORE + "str":
+            return value
+        if tag == _PLAIN:
+            return self.typed_plain(node, value)
+        # An explicit core tag: the text must fit it.
+        typed = self.typed_plain(node, value)
+        expected = {"int": int, "float": (int, float), "bool": bool, "null": type(None)}[tag[len(_CORE):]]
+        if isinstance(typed, bool) and expected is not bool or not isinstance(typed, expected):
+            raise self.fail(node, f"{value!r} is not a valid {tag[len(_CORE):]}")
+        return float(typed) if tag.endswith("float") else typed
+
+    def typed_plain(self, node: yaml.ScalarNode, value: str) -> Any:
+        if _NULL.match(value):
+            return None
+        if _TRUE.match(value):
+            return True
+        if _FALSE.match(value):
+            return False
+        if _INT10.match(value):
+            return int(value)
+        if _INT8.match(value):
+            return int(value[2:], 8)
+        if _INT16.match(value):
+            return int(value[2:], 16)
+        if _FLOAT.match(value):
+            return float(value)
+        if _SPECIAL_FLOAT.match(value):
+            raise self.fail(node, f"{value!r} (infinity or not-a-number) is not allowed in a plan")
+        return value

@@ -1,0 +1,80 @@
+"""The policy file: a sponsor's or a trial's adjustments to the rules.
+
+A policy can switch rules off, change their severity and change their thresholds. It is
+YAML, read with the same safe loader as plans and checked against its own schema; any
+problem in it is an input error (exit 2) located at the offending line.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from pathlib import Path as FilePath
+from typing import Mapping
+
+from protolint.errors import LocatedError, ProtolintError
+from protolint.findings import Severity
+from protolint.plan.schema import locate, schema_findings
+from protolint.plan.source import load_source
+from protolint.rules.registry import RuleMeta
+
+POLICY_SCHEMA = "policy.schema.json"
+
+
+@dataclass(frozen=True)
+class Policy:
+    disabled: frozenset[str] = frozenset()
+    severities: Mapping[str, Severity] = field(default_factory=dict)
+    thresholds: Mapping[str, Mapping[str, float]] = field(default_factory=dict)
+
+    def enabled(self, rule_id: str) -> bool:
+        return rule_id not in self.disabled
+
+    def severity(self, meta: RuleMeta) -> Severity:
+        return self.severities.get(meta.id, meta.severity)
+
+    def thresholds_for(self, meta: RuleMeta) -> dict[str, float]:
+        values = {threshold.name: threshold.default for threshold in meta.thresholds}
+        values.update(self.thresholds.get(meta.id, {}))
+        return values
+
+
+DEFAULT_POLICY = Policy()
+
+
+def read_policy(file: str, rules: Mapping[str, RuleMeta]) -> Policy:
+    """Read and check a policy file against the registered rules."""
+    try:
+        raw = FilePath(file).read_bytes()
+    except OSError as error:
+        raise ProtolintError(f"{file}: cannot read the policy file: {error.strerror}") from None
+    source = load_source(raw, file)
+    problems = schema_findings(source, POLICY_SCHEMA)
+    if problems:
+        first = problems[0]
+        raise LocatedError(file, first.location.line, first.location.column, f"policy: {first.message}")
+
+    disabled: set[str] = set()
+    severities: dict[str, Severity] = {}
+    thresholds: dict[str, dict[str, float]] = {}
+    for rule_id, settings in (source.data.get("rules") or {}).items():
+        where = locate(source.source_map, ("rules", rule_id), at_key=True)
+        meta = rules.get(rule_id)
+        if meta is None:
+            raise LocatedError(file, where.line, where.column, f"policy names rule {rule_id!r}, which does not exist")
+        if settings.get("enabled") is False:
+            disabled.add(rule_id)
+        if "severity" in settings:
+            severities[rule_id] = Severity.parse(settings["severity"])
+        for name, value in (settings.get("thresholds") or {}).items():
+            spot = locate(source.source_map, ("rules", rule_id, "thresholds", name), at_key=True)
+            try:
+                threshold = meta.threshold(name)
+            except KeyError:
+                known = ", ".join(t.name for t in meta.thresholds) or "none"
+                raise LocatedError(file, spot.line, spot.column,
+                                   f"rule {rule_id} has no threshold {name!r} (its thresholds: {known})") from None
+            if threshold.minimum is not None and value < threshold.minimum or threshold.maximum is not None and value > threshold.maximum:
+                raise LocatedError(file, spot.line, spot.column,
+                                   f"threshold {name} of {rule_id} must lie between {threshold.minimum} and {threshold.maximum}, not {value}")
+            thresholds.setdefault(rule_id, {})[name] = value
+    return Policy(frozenset(disabled), severities, thresholds)
