@@ -1,0 +1,78 @@
+"""Dates derived from the plan's schedule: when rating starts and ends, per instrument and site.
+
+Conventions (stated so that rules and documents agree):
+
+* ``study.first_assessment`` is the date of the first rated assessment of the first
+  participant, at the earliest rated visit of the schedule.
+* Participants enter evenly over ``study.enrolment_weeks``; the last one has that earliest
+  visit ``enrolment_weeks`` after the first.
+* A participant's visits follow the schedule's days; a participant stays in the rated part of
+  the trial for the longer of ``treatment_weeks`` and the span of the rated visits.
+* A site with its own ``first_assessment`` starts rating then; it stops with the study.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import date, timedelta
+
+from protolint.plan.model import Endpoint, Plan
+
+
+@dataclass(frozen=True)
+class RatingWindow:
+    first: date
+    last: date
+
+    @property
+    def days(self) -> int:
+        return (self.last - self.first).days
+
+
+def rated_visit_days(plan: Plan, endpoints: tuple[Endpoint, ...] | None = None) -> list[int]:
+    chosen = plan.endpoints if endpoints is None else endpoints
+    days = sorted({plan.visit(visit).day for endpoint in chosen for visit in endpoint.visits})
+    return days or sorted(v.day for v in plan.schedule.visits)
+
+
+def participant_span_days(plan: Plan) -> int:
+    days = rated_visit_days(plan)
+    return max(days[-1] - days[0], plan.study.treatment_weeks * 7)
+
+
+def study_window(plan: Plan) -> RatingWindow:
+    """From the first participant's first rated assessment to the last participant's last."""
+    first = plan.study.first_assessment
+    last = first + timedelta(weeks=plan.study.enrolment_weeks) + timedelta(days=participant_span_days(plan))
+    return RatingWindow(first, last)
+
+
+def endpoint_first_assessment(plan: Plan, endpoint: Endpoint, site_id: str | None = None) -> date:
+    """First date the endpoint is rated (at a site, when given)."""
+    all_days = rated_visit_days(plan)
+    own_days = sorted(plan.visit(v).day for v in endpoint.visits)
+    start = plan.study.first_assessment
+    if site_id is not None:
+        site = plan.study.site(site_id)
+        start = site.first_assessment or start
+    return start + timedelta(days=own_days[0] - all_days[0])
+
+
+def instrument_first_assessment(plan: Plan, instrument_id: str) -> date | None:
+    endpoints = plan.endpoints_for(instrument_id)
+    if not endpoints:
+        return None
+    return min(endpoint_first_assessment(plan, endpoint) for endpoint in endpoints)
+
+
+def pool_sites(plan: Plan, pool_id: str) -> tuple[str, ...]:
+    pool = plan.pool(pool_id)
+    if pool.location == "central":
+        return ()
+    return pool.sites if pool.sites else tuple(site.id for site in plan.study.sites)
+
+
+def site_window(plan: Plan, site_id: str) -> RatingWindow:
+    whole = study_window(plan)
+    site = plan.study.site(site_id)
+    return RatingWindow(site.first_assessment or whole.first, whole.last)

@@ -1,0 +1,91 @@
+"""SOP rules: every rated instrument is governed by a controlled procedure that is in force."""
+
+from __future__ import annotations
+
+from typing import Iterator
+
+from protolint.plan.model import Plan
+from protolint.plan.timeline import instrument_first_assessment
+from protolint.rules.registry import Hit, RuleContext, Threshold, rule
+
+
+@rule("sop/instrument-not-covered", "error",
+      source="ICH E6(R2) 5.23.4 (uniform assessment standards across sites); ISO 9001:2015 7.5 (controlled documents)")
+def instrument_not_covered(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """A rated instrument is covered by no SOP.
+
+    Raters at every site must administer and score an instrument the same way, and that way
+    must be written down in a controlled, versioned document. An instrument rated by people
+    (clinician-rated, observer-rated or performance) that no SOP's `covers.instruments` names
+    has no such document.
+
+    **Passes**: instrument `HLSC-8` and an SOP with `covers: {instruments: [HLSC-8]}`.
+
+    **Fails**: instrument `HLSC-8` and no SOP that names it.
+    """
+    covered = {instrument for sop in plan.sops if sop.covers for instrument in sop.covers.instruments}
+    for instrument in plan.instruments:
+        if instrument.is_rated_by_people and instrument.id not in covered and plan.endpoints_for(instrument.id):
+            yield Hit(instrument.path + ("id",),
+                      f"instrument {instrument.id} is rated by people but no SOP covers it; "
+                      "add it to the covers.instruments of the SOP that governs its administration and scoring")
+
+
+@rule("sop/effective-too-late", "error",
+      source="ICH E6(R3) Appendix C (essential records in place before the trial starts); common practice")
+def effective_too_late(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """An SOP takes effect after the first planned assessment it governs.
+
+    Ratings made before the procedure that governs them is in force were made under no
+    controlled procedure. The first assessment of each covered instrument is worked out from
+    the study's first assessment date and the visits at which the instrument is rated.
+
+    **Passes**: SOP effective 2026-08-15, instrument first rated 2026-09-01.
+
+    **Fails**: SOP effective 2026-09-10, instrument first rated 2026-09-01.
+    """
+    for sop in plan.sops:
+        if sop.status in ("superseded", "retired") or not sop.covers:
+            continue
+        for instrument_id in sop.covers.instruments:
+            first = instrument_first_assessment(plan, instrument_id)
+            if first is not None and sop.effective > first:
+                yield Hit(sop.path + ("effective",),
+                          f"{sop.id} version {sop.version} takes effect on {sop.effective.isoformat()}, "
+                          f"after {instrument_id} is first rated on {first.isoformat()} "
+                          f"({(sop.effective - first).days} days without a procedure in force)",
+                          {"sop": sop.id, "effective": sop.effective.isoformat(), "instrument": instrument_id,
+                           "first_assessment": first.isoformat()})
+
+
+@rule("sop/review-overdue", "warning",
+      source="ISO 9001:2015 7.5.2-7.5.3 (review and update of documented information); common practice for the cycle length",
+      thresholds=[Threshold("due_soon_days", 60, "Days before the review date from which a note says the review is due soon.", 0, 365)])
+def review_overdue(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """An SOP's periodic review date has passed.
+
+    A controlled document is reviewed on a fixed cycle so that it still matches practice.
+    The review date is compared with `--as-of` (default: the plan's date), never with the
+    wall clock, so the same plan gives the same answer in CI tomorrow. A review that falls due
+    within `due_soon_days` gives a note.
+
+    **Passes**: `review_due: 2027-08-15` checked as of 2026-07-15.
+
+    **Fails**: `review_due: 2026-06-30` checked as of 2026-07-15.
+    """
+    from protolint.findings import Severity
+
+    soon = int(ctx.thresholds["due_soon_days"])
+    for sop in plan.sops:
+        if sop.review_due is None or sop.status in ("superseded", "retired"):
+            continue
+        late = (ctx.as_of - sop.review_due).days
+        facts = {"sop": sop.id, "review_due": sop.review_due.isoformat(), "as_of": ctx.as_of.isoformat()}
+        if late > 0:
+            yield Hit(sop.path + ("review_due",),
+                      f"{sop.id} was due for review on {sop.review_due.isoformat()}, {late} days before {ctx.as_of.isoformat()}",
+                      facts)
+        elif -late <= soon:
+            yield Hit(sop.path + ("review_due",),
+                      f"{sop.id} is due for review on {sop.review_due.isoformat()}, within {soon} days of {ctx.as_of.isoformat()}",
+                      facts, severity=Severity.NOTE)
