@@ -1,0 +1,84 @@
+"""Published interpretation bands for reliability coefficients.
+
+Bands are descriptive conventions, not criteria: the authors themselves ask that they be
+applied with judgement (Koo & Li recommend judging the confidence interval, not only the
+point estimate).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True, slots=True)
+class BandScale:
+    """A published set of interpretation bands.
+
+    Attributes
+    ----------
+    name : str
+        Short citation, e.g. ``"Koo & Li 2016"``.
+    reference : str
+        Full reference.
+    cuts : tuple of float
+        Band boundaries in increasing order.
+    labels : tuple of str
+        One more label than cuts.
+    upper_closed : bool
+        True when a value equal to a cut belongs to the band below it.
+    """
+
+    name: str
+    reference: str
+    cuts: tuple[float, ...]
+    labels: tuple[str, ...]
+    upper_closed: bool
+
+    def classify(self, value: float) -> str:
+        """The band label of ``value``; raises ValueError for NaN."""
+        if isinstance(value, float) and math.isnan(value):
+            raise ValueError("value must be a number, got nan")
+        for cut, label in zip(self.cuts, self.labels):
+            if value < cut or (self.upper_closed and value == cut):
+                return label
+        return self.labels[-1]
+
+
+KOO_LI_2016 = BandScale(
+    name="Koo & Li 2016",
+    reference=(
+        "Koo, T. K. & Li, M. Y. (2016). A guideline of selecting and reporting intraclass "
+        "correlation coefficients for reliability research. Journal of Chiropractic Medicine, 15, 155-163."
+    ),
+    cuts=(0.5, 0.75, 0.9),
+    labels=("poor", "moderate", "good", "excellent"),
+    upper_closed=False,
+)
+
+LANDIS_KOCH_1977 = BandScale(
+    name="Landis & Koch 1977",
+    reference=(
+        "Landis, J. R. & Koch, G. G. (1977). The measurement of observer agreement for "
+        "categorical data. Biometrics, 33, 159-174."
+    ),
+    cuts=(0.0, 0.2, 0.4, 0.6, 0.8),
+    labels=("poor", "slight", "fair", "moderate", "substantial", "almost perfect"),
+    upper_closed=True,
+)
+
+
+def koo_li_2016(value: float) -> str:
+    """Koo & Li (2016) band of an ICC: poor < .50 <= moderate < .75 <= good < .90 <= excellent."""
+    return KOO_LI_2016.classify(value)
+
+
+def landis_koch_1977(value: float) -> str:
+    """Landis & Koch (1977) band of a kappa-type coefficient.
+
+    < 0 poor; 0-.20 slight; .21-.40 fair; .41-.60 moderate; .61-.80 substantial;
+    .81-1 almost perfect (a cut value belongs to the band below it; 0 is slight).
+    """
+    if value == 0.0:
+        return "slight"
+    return LANDIS_KOCH_1977.classify(value)
