@@ -1,0 +1,154 @@
+"""Helpers shared by the formatters: ordering, counting, fingerprints, safe text."""
+
+from __future__ import annotations
+
+import hashlib
+import math
+import re
+from datetime import date, datetime
+from typing import TYPE_CHECKING, Any, Iterable, Sequence
+
+if TYPE_CHECKING:
+    from protolint.findings import Finding, PlanResult
+    from protolint.rules.registry import RuleMeta
+
+FINGERPRINT_KEY = "protolintFinding/v1"
+
+# Numbers in a message change when the plan's numbers change (a recomputed N, a coefficient);
+# the finding is still "the same finding", so they are masked before hashing.
+_NUMBER = re.compile(r"[-+]?\d+(?:[.,]\d+)*(?:[eE][-+]?\d+)?")
+_SPACE = re.compile(r"\s+")
+
+# C0/C1 controls, DEL and the Unicode line/paragraph separators. Plan-derived text may contain
+# them; printed raw they could move the cursor, recolour a terminal or split a CI log line.
+_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029]")
+
+# Characters XML 1.0 cannot carry at all, not even as character references.
+_XML_INVALID = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff\ud800-\udfff]")
+
+
+def sorted_findings(plan: PlanResult) -> tuple[Finding, ...]:
+    return tuple(sorted(plan.findings, key=lambda f: f.sort_key()))
+
+
+def plan_counts(plan: PlanResult) -> dict[str, int]:
+    """Counts of one plan in the shape of :meth:`CheckResult.counts`."""
+    counts = {"error": 0, "warning": 0, "note": 0, "waived": 0}
+    for finding in plan.findings:
+        counts["waived" if finding.waived else finding.severity.label] += 1
+    return counts
+
+
+def plural(count: int, word: str) -> str:
+    return f"{count} {word}" if count == 1 or word == "waived" else f"{count} {word}s"
+
+
+def counts_phrase(counts: dict[str, int], *, skip_zero: bool = False) -> str:
+    """'1 error, 2 warnings, 0 notes, 1 waived' (optionally without the zeros)."""
+    parts = [
+        plural(counts[key], key)
+        for key in ("error", "warning", "note", "waived")
+        if counts[key] or not skip_zero
+    ]
+    return ", ".join(parts)
+
+
+def normalised_message(message: str) -> str:
+    return _SPACE.sub(" ", _NUMBER.sub("#", message)).strip()
+
+
+def forward_slashes(path: str) -> str:
+    return path.replace("\\", "/")
+
+
+def finding_digest(finding: Finding) -> str:
+    """sha256 of what identifies a finding independently of where its line ended up."""
+    material = "\x00".join(
+        (finding.rule, forward_slashes(finding.file), finding.pointer, normalised_message(finding.message))
+    )
+    return hashlib.sha256(material.encode("utf-8")).hexdigest()
+
+
+def fingerprints(findings: Iterable[Finding]) -> list[str]:
+    """One stable fingerprint per finding, in the order given.
+
+    Two findings with the same digest (same rule, file, pointer and masked message) get an
+    occurrence counter, in position order, so they stay distinct for consumers that
+    de-duplicate on the fingerprint.
+    """
+    seen: dict[str, int] = {}
+    out: list[str] = []
+    for finding in findings:
+        digest = finding_digest(finding)
+        seen[digest] = seen.get(digest, 0) + 1
+        out.append(f"{digest}:{seen[digest]}")
+    return out
+
+
+def one_line(text: str) -> str:
+    """Text safe to print on a single line: control characters shown as escapes."""
+    return _CONTROL.sub(_escape_control, text)
+
+
+def xml_safe(text: str) -> str:
+    """Text XML 1.0 can carry (ElementTree escapes ``<&>"`` itself but not these)."""
+    return _XML_INVALID.sub(_escape_control, text)
+
+
+def _escape_control(match: re.Match[str]) -> str:
+    char = match.group(0)
+    if char == "\n":
+        return "\\n"
+    if char == "\t":
+        return "\\t"
+    code = ord(char)
+    return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
+
+
+def json_safe(value: Any) -> Any:
+    """A copy of ``value`` that strict JSON can encode.
+
+    Facts should already be JSON values, but a report must not crash on a rule's slip:
+    non-finite floats become strings (strict JSON has no NaN), dates become ISO text, tuples
+    become lists and anything else its ``str``.
+    """
+    if value is None or isinstance(value, (bool, int, str)):
+        return value
+    if isinstance(value, float):
+        return value if math.isfinite(value) else str(value)
+    if isinstance(value, (date, datetime)):
+        return value.isoformat()
+    if isinstance(value, dict) or hasattr(value, "items"):
+        return {str(key): json_safe(item) for key, item in value.items()}
+    if isinstance(value, (list, tuple, set, frozenset)):
+        items = sorted(value, key=repr) if isinstance(value, (set, frozenset)) else value
+        return [json_safe(item) for item in items]
+    return str(value)
+
+
+def facts_inline(facts: Any) -> str:
+    """'icc=0.62, n_subjects=30' for human-readable formats."""
+    import json  # cheap, and only needed when there are facts to show
+
+    safe = json_safe(facts)
+    if not safe:
+        return ""
+    return ", ".join(
+        f"{key}={json.dumps(value, ensure_ascii=False, sort_keys=True)}" for key, value in safe.items()
+    )
+
+
+def rule_ids_for_plan(plan: PlanResult, rules: Sequence[RuleMeta]) -> list[str]:
+    """The rules a per-rule report lists for one plan.
+
+    The plan's own ``rules_run`` when the engine recorded it, else every rule given; plus any
+    rule that produced a finding without being in either list (e.g. schema findings), so no
+    finding is ever dropped from a report.
+    """
+    ids = set(plan.rules_run) if plan.rules_run else {meta.id for meta in rules}
+    ids.update(finding.rule for finding in plan.findings)
+    return sorted(ids)
+
+
+def location_text(finding: Finding) -> str:
+    return f"{finding.file}:{finding.location.line}:{finding.location.column}"

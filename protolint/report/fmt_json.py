@@ -1,0 +1,61 @@
+"""JSON report: the machine-readable contract of ``protolint check`` (DESIGN section 3).
+
+The contract keys come first in a fixed order and are never renamed or dropped; the extra
+keys (``end_line``, ``end_column``, ``waiver_reason``, ``fingerprint``, ``as_of``,
+``caution``) follow them.
+"""
+
+from __future__ import annotations
+
+import json
+from typing import TYPE_CHECKING, Any, Sequence
+
+from protolint import CAUTION
+from protolint.report._common import fingerprints, json_safe, sorted_findings
+
+if TYPE_CHECKING:
+    from protolint.findings import CheckResult, Finding, PlanResult
+    from protolint.rules.registry import RuleMeta
+
+
+def _finding(finding: Finding, fingerprint: str) -> dict[str, Any]:
+    return {
+        "rule": finding.rule,
+        "severity": finding.severity.label,
+        "message": finding.message,
+        "line": finding.location.line,
+        "column": finding.location.column,
+        "pointer": finding.pointer,
+        "waived": finding.waived,
+        "facts": json_safe(dict(finding.facts)),
+        "end_line": finding.location.end_line,
+        "end_column": finding.location.end_column,
+        "waiver_reason": finding.waiver_reason,
+        "fingerprint": fingerprint,
+    }
+
+
+def _plan(plan: PlanResult) -> dict[str, Any]:
+    findings = sorted_findings(plan)
+    return {
+        "file": plan.file,
+        "sha256": plan.sha256,
+        "as_of": plan.as_of,
+        "findings": [_finding(f, fp) for f, fp in zip(findings, fingerprints(findings))],
+    }
+
+
+def as_document(result: CheckResult) -> dict[str, Any]:
+    """The report as plain Python data (what :func:`render` serialises)."""
+    return {
+        "tool": {"name": "protolint", "version": result.tool_version},
+        "plans": [_plan(plan) for plan in result.plans],
+        "summary": result.counts(),
+        "caution": CAUTION,
+    }
+
+
+def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:
+    # allow_nan=False: json_safe has already turned non-finite numbers into text, and strict
+    # JSON parsers reject NaN.
+    return json.dumps(as_document(result), ensure_ascii=False, indent=2, allow_nan=False) + "\n"

@@ -1,0 +1,200 @@
+"""SARIF 2.1.0 report, for code-scanning services and SARIF viewers.
+
+Choices worth knowing:
+
+* Every rule that ran becomes a ``reportingDescriptor``; a finding whose rule is not among
+  them (e.g. a schema finding) gets a minimal descriptor, so every ``ruleIndex`` is valid.
+* ``partialFingerprints["protolintFinding/v1"]`` hashes rule id, file, JSON Pointer and the
+  message with its numbers masked, so a finding keeps its identity when lines move or a
+  recomputed number changes.
+* Waived findings stay in the log with an external suppression carrying the waiver reason,
+  so viewers show them as dismissed instead of losing the audit trail.
+* Columns count Unicode code points (the loader's columns), hence ``columnKind``.
+"""
+
+from __future__ import annotations
+
+import json
+from typing import TYPE_CHECKING, Any, Sequence
+from urllib.parse import quote
+
+from protolint import CAUTION
+from protolint.report._common import (
+    FINGERPRINT_KEY,
+    fingerprints,
+    forward_slashes,
+    json_safe,
+    sorted_findings,
+)
+
+if TYPE_CHECKING:
+    from protolint.findings import CheckResult, Finding
+    from protolint.rules.registry import RuleMeta
+
+SARIF_SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
+AUTOMATION_ID = "protolint/"
+
+
+def artifact_uri(path: str) -> str:
+    """A URI reference for a plan path: relative paths stay relative, forward slashes."""
+    posix = forward_slashes(path)
+    if len(posix) > 1 and posix[1] == ":":  # a Windows drive path
+        return "file:///" + quote(posix, safe="/:")
+    if posix.startswith("/"):
+        return "file://" + quote(posix, safe="/")
+    return quote(posix, safe="/")
+
+
+def _help_text(meta: RuleMeta) -> str:
+    parts = [meta.summary]
+    if meta.documentation:
+        parts.append(meta.documentation)
+    parts.append(f"Source: {meta.source}")
+    if meta.thresholds:
+        lines = ["Thresholds (policy may change them):"]
+        lines += [f"- {t.name} = {t.default}: {t.description}" for t in meta.thresholds]
+        parts.append("\n".join(lines))
+    return "\n\n".join(parts)
+
+
+def _help_markdown(meta: RuleMeta) -> str:
+    # The documentation is the rule's own Markdown (our code, not plan text), used as-is.
+    parts = [f"**{meta.summary}**"]
+    if meta.documentation:
+        parts.append(meta.documentation)
+    parts.append(f"**Source:** {meta.source}")
+    if meta.thresholds:
+        rows = ["| Threshold | Default | Meaning |", "|---|---|---|"]
+        rows += [f"| `{t.name}` | {t.default} | {t.description} |" for t in meta.thresholds]
+        parts.append("\n".join(rows))
+    return "\n\n".join(parts)
+
+
+def _descriptor(meta: RuleMeta) -> dict[str, Any]:
+    return {
+        "id": meta.id,
+        "name": meta.name,
+        "shortDescription": {"text": meta.summary},
+        "fullDescription": {"text": meta.documentation or meta.summary},
+        "help": {"text": _help_text(meta), "markdown": _help_markdown(meta)},
+        "defaultConfiguration": {
+            "level": meta.severity.label,
+            "parameters": {t.name: t.default for t in meta.thresholds},
+        },
+        "properties": {
+            "tags": [meta.family],
+            "computed": meta.computed,
+            "waivable": meta.waivable,
+            "source": meta.source,
+        },
+    }
+
+
+def _fallback_descriptor(rule_id: str, level: str) -> dict[str, Any]:
+    family, _, name = rule_id.partition("/")
+    text = f"Findings reported as {rule_id}."
+    return {
+        "id": rule_id,
+        "name": name or family,
+        "shortDescription": {"text": text},
+        "fullDescription": {"text": text},
+        "help": {"text": text, "markdown": text},
+        "defaultConfiguration": {"level": level},
+        "properties": {"tags": [family]},
+    }
+
+
+def _region(finding: Finding) -> dict[str, int] | None:
+    loc = finding.location
+    if loc.line < 1:  # no usable position: the location names the file only
+        return None
+    region = {"startLine": loc.line}
+    if loc.column >= 1:
+        region["startColumn"] = loc.column
+    if loc.end_line is not None and loc.end_line >= loc.line:
+        region["endLine"] = loc.end_line
+    if loc.end_column is not None and loc.end_column >= 1:
+        region["endColumn"] = loc.end_column
+    return region
+
+
+def _result(
+    finding: Finding, fingerprint: str, rule_index: int, artifact_index: int
+) -> dict[str, Any]:
+    physical: dict[str, Any] = {
+        "artifactLocation": {"uri": artifact_uri(finding.file), "index": artifact_index}
+    }
+    region = _region(finding)
+    if region is not None:
+        physical["region"] = region
+    result: dict[str, Any] = {
+        "ruleId": finding.rule,
+        "ruleIndex": rule_index,
+        "level": finding.severity.label,
+        "message": {"text": finding.message},
+        "locations": [{"physicalLocation": physical}],
+        "partialFingerprints": {FINGERPRINT_KEY: fingerprint},
+        "properties": {"pointer": finding.pointer, "facts": json_safe(dict(finding.facts))},
+    }
+    if finding.waived:
+        result["suppressions"] = [
+            {"kind": "external", "justification": finding.waiver_reason or "waived"}
+        ]
+    return result
+
+
+def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any]:
+    unique = {meta.id: meta for meta in rules}
+    descriptors = [_descriptor(unique[rule_id]) for rule_id in sorted(unique)]
+    rule_index = {d["id"]: i for i, d in enumerate(descriptors)}
+    artifacts: list[dict[str, Any]] = []
+    artifact_index: dict[str, int] = {}
+    results: list[dict[str, Any]] = []
+
+    for plan in result.plans:
+        uri = artifact_uri(plan.file)
+        if uri not in artifact_index:
+            artifact_index[uri] = len(artifacts)
+            artifact: dict[str, Any] = {"location": {"uri": uri}}
+            if plan.sha256:
+                artifact["hashes"] = {"sha-256": plan.sha256}
+            artifacts.append(artifact)
+        findings = sorted_findings(plan)
+        for finding, fingerprint in zip(findings, fingerprints(findings)):
+            if finding.rule not in rule_index:
+                rule_index[finding.rule] = len(descriptors)
+                descriptors.append(_fallback_descriptor(finding.rule, finding.severity.label))
+            # A finding's own file may differ from the plan's (an included file).
+            file_uri = artifact_uri(finding.file)
+            if file_uri not in artifact_index:
+                artifact_index[file_uri] = len(artifacts)
+                artifacts.append({"location": {"uri": file_uri}})
+            results.append(
+                _result(finding, fingerprint, rule_index[finding.rule], artifact_index[file_uri])
+            )
+
+    run: dict[str, Any] = {
+        "tool": {
+            "driver": {
+                "name": "protolint",
+                "version": result.tool_version,
+                "semanticVersion": result.tool_version,
+                "rules": descriptors,
+            }
+        },
+        "automationDetails": {"id": AUTOMATION_ID},
+        "invocations": [{"executionSuccessful": True}],
+        "artifacts": artifacts,
+        "columnKind": "unicodeCodePoints",
+        "results": results,
+        "properties": {"caution": CAUTION},
+    }
+    as_of = sorted({plan.as_of for plan in result.plans if plan.as_of})
+    if as_of:
+        run["properties"]["asOf"] = as_of
+    return {"$schema": SARIF_SCHEMA, "version": "2.1.0", "runs": [run]}
+
+
+def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:
+    document = as_document(result, rules)
+    return json.dumps(document, ensure_ascii=False, indent=2, allow_nan=False) + "\n"
