@@ -1,0 +1,39 @@
+# protolint — the two commands a fresh machine needs are `make demo` and `make test`.
+# Both create .venv/ when it is missing and install the project (with its test extra) into it.
+
+PYTHON ?= python3
+VENV   ?= .venv
+PY     := $(VENV)/bin/python
+STAMP  := $(VENV)/.protolint-installed
+OUT    ?= out
+DEMO   := demo_protocol/plan.yaml
+
+.PHONY: demo test bench install clean rules-doc
+
+install: $(STAMP)
+
+$(STAMP): pyproject.toml setup.py
+	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install --quiet --upgrade pip setuptools wheel
+	$(PY) -m pip install --quiet -e '.[test]'
+	@touch $(STAMP)
+
+demo: $(STAMP)
+	@mkdir -p $(OUT)
+	$(VENV)/bin/protolint check $(DEMO) --fail-on never
+	$(VENV)/bin/protolint check $(DEMO) --fail-on never --format json --output $(OUT)/demo-check.json
+	$(VENV)/bin/protolint check $(DEMO) --fail-on never --format sarif --output $(OUT)/demo-check.sarif
+
+# pytest exits 5 when it collected no test: that is a failure here, never a pass.
+test: $(STAMP)
+	@$(PY) -m pytest $(PYTEST_ARGS); rc=$$?; \
+	  if [ $$rc -eq 5 ]; then echo "make test: pytest collected no tests" >&2; exit 1; fi; exit $$rc
+
+bench: $(STAMP)
+	@for script in bench/bench_*.py; do echo "== $$script"; $(PY) $$script || exit 1; done
+
+rules-doc: $(STAMP)
+	$(PY) tools/write_rule_reference.py
+
+clean:
+	rm -rf $(OUT) build dist *.egg-info .pytest_cache
