@@ -1,0 +1,54 @@
+"""Fixtures shared by every test package."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+REPO = Path(__file__).resolve().parents[1]
+DEMO_PLAN = REPO / "demo_protocol" / "plan.yaml"
+STARTER_PLAN = REPO / "templates" / "starter-plan.yaml"
+
+
+@pytest.fixture
+def repo_root() -> Path:
+    return REPO
+
+
+@pytest.fixture
+def demo_plan() -> Path:
+    return DEMO_PLAN
+
+
+@pytest.fixture
+def starter_text() -> str:
+    """A clean, schema-valid plan to modify in tests."""
+    return STARTER_PLAN.read_text(encoding="utf-8")
+
+
+@pytest.fixture
+def cli():
+    """Run the command line in-process: ``cli("check", path)`` -> click Result."""
+    from protolint.cli import main
+
+    runner = CliRunner()
+
+    def run(*args: str, input: str | bytes | None = None):
+        return runner.invoke(main, [str(a) for a in args], input=input, catch_exceptions=False)
+
+    return run
+
+
+@pytest.fixture
+def cli_process():
+    """Run ``python -m protolint`` in a real process (exit codes, stderr, no traceback)."""
+
+    def run(*args: str, cwd: Path | None = None, env: dict | None = None) -> subprocess.CompletedProcess:
+        return subprocess.run([sys.executable, "-m", "protolint", *map(str, args)], capture_output=True,
+                              text=True, cwd=cwd or REPO, env=env, timeout=120)
+
+    return run
