@@ -83,7 +83,7 @@ def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | 
         click.echo(f"protolint: wrote {fmt} report to {output} ({counts['error']} errors, {counts['warning']} warnings, "
                    f"{counts['note']} notes, {counts['waived']} waived)", err=True)
     else:
-        click.echo(report, nl=not report.endswith("\n"))
+        click.echo(report, nl=not report.endswith("\n"), color=color)
 
     if unreadable:
         sys.exit(2)

@@ -182,6 +182,9 @@ def _yaml_error(error: yaml.MarkedYAMLError, text: str, file: str) -> LocatedErr
     message = problem
     if error.context:
         message = f"{error.context}: {problem}"
+        started = error.context_mark
+        if started is not None and mark is not None and started.line != mark.line:
+            message += f" (the structure began at line {started.line + 1}, column {started.column + 1})"
     return LocatedError(file, line, column, f"not valid YAML: {message}")
 
 
