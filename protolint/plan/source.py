@@ -124,7 +124,8 @@ def load_source(raw: bytes, file: str) -> LoadedSource:
         raise LocatedError(file, 1, 1, f"nesting is deeper than {MAX_DEPTH} levels") from None
     if root is None:
         raise LocatedError(file, 1, 1, "the file is empty; a plan is a YAML mapping of keys to values")
-    _check_expansion(root, file)
+    if "&" in text:  # aliases need an anchor; without one no node can be shared
+        _check_expansion(root, file)
     converter = _Converter(file)
     data = converter.convert(root, (), depth=0, ancestors=())
     if not isinstance(data, dict):

@@ -1,0 +1,58 @@
+"""A plain, non-editable install must find its schemas and templates inside the package."""
+
+from __future__ import annotations
+
+import shutil
+import subprocess
+import sys
+import zipfile
+from pathlib import Path
+
+import pytest
+
+REPO = Path(__file__).resolve().parents[1]
+
+
+@pytest.fixture(scope="module")
+def wheel(tmp_path_factory) -> Path:
+    out = tmp_path_factory.mktemp("dist")
+    # Build from a copy of the sources so that no build/ or egg-info folder lands in the repo.
+    src = tmp_path_factory.mktemp("build") / "src"
+    src.mkdir()
+    skip = shutil.ignore_patterns("__pycache__", "*.pyc")
+    for folder in ("protolint", "schemas", "templates"):
+        shutil.copytree(REPO / folder, src / folder, ignore=skip)
+    for name in ("pyproject.toml", "setup.py", "MANIFEST.in", "README.md"):
+        shutil.copy(REPO / name, src / name)
+    result = subprocess.run([sys.executable, "-m", "pip", "wheel", "--no-deps", "--no-build-isolation", "-w", str(out), str(src)],
+                            capture_output=True, text=True)
+    assert result.returncode == 0, result.stderr
+    [built] = out.glob("protolint-*.whl")
+    return built
+
+
+def test_wheel_carries_schemas_and_templates(wheel):
+    names = zipfile.ZipFile(wheel).namelist()
+    assert "protolint/_data/schemas/plan.schema.json" in names
+    assert "protolint/_data/schemas/policy.schema.json" in names
+    assert "protolint/_data/templates/starter-plan.yaml" in names
+
+
+def test_installed_package_checks_a_plan_away_from_the_repo(wheel, tmp_path):
+    target = tmp_path / "site"
+    subprocess.run([sys.executable, "-m", "pip", "install", "--quiet", "--no-deps", "--target", str(target), str(wheel)], check=True)
+    plan = tmp_path / "plan.yaml"
+    plan.write_bytes((REPO / "demo_protocol" / "plan.yaml").read_bytes())
+    env = {"PYTHONPATH": str(target), "PATH": "/usr/bin:/bin"}
+    probe = subprocess.run([sys.executable, "-c", "import protolint, protolint.resources as r; "
+                            "print(protolint.__file__); print(r.data_dir('schemas')); print(r.templates_dir())"],
+                           capture_output=True, text=True, cwd=tmp_path, env=env)
+    assert probe.returncode == 0, probe.stderr
+    module_file, schemas, templates = probe.stdout.split()
+    assert module_file.startswith(str(target)) and schemas.startswith(str(target)) and templates.startswith(str(target))
+    checked = subprocess.run([sys.executable, "-m", "protolint", "check", "plan.yaml", "--format", "json", "--fail-on", "never"],
+                             capture_output=True, text=True, cwd=tmp_path, env=env)
+    assert checked.returncode == 0, checked.stderr
+    assert '"findings"' in checked.stdout
+    init = subprocess.run([sys.executable, "-m", "protolint", "init", "starter.yaml"], capture_output=True, text=True, cwd=tmp_path, env=env)
+    assert init.returncode == 0 and (tmp_path / "starter.yaml").read_text(encoding="utf-8").startswith("# To let your editor")
