@@ -241,31 +241,35 @@ class SampleSizeResult:
     method: str
 
 
-def _smallest_n(power_of: Callable[[int], float], target: float, continuous: Callable[[float], float], low: int) -> tuple[int, float]:
-    """Smallest integer n >= low with power_of(n) >= target, and the continuous root."""
-    from scipy import optimize
+def _smallest_n(power_of: Callable[[float], float], target: float, start: float, low: int) -> tuple[int, float]:
+    """Smallest whole n >= low with power_of(n) >= target, and the continuous solution.
 
-    if power_of(low) >= target:
-        return low, float(low)
-    high = max(low * 2, 8)
-    while continuous(high) < target:
-        high *= 2
-        if high > _MAX_N:
-            raise SolverError(f"the target power needs more than {_MAX_N:,} per group; the effect is too small to detect")
-    try:
-        root = float(optimize.brentq(lambda v: continuous(v) - target, float(low), float(high), xtol=1e-10))
-    except (ValueError, RuntimeError) as exc:  # brentq's own failures
-        raise SolverError(f"the sample-size solver did not converge: {exc}") from None
-    n = max(low, math.ceil(round(root, 9)))
-    # The continuous curve and the rounded-group power can differ near a whole number: walk to
-    # the smallest whole n that meets the target.
+    ``start`` is a normal-approximation guess; the exact power is monotone in n, so a short
+    walk from it finds the whole number and a bisection on the last unit interval finds the
+    continuous root (no general-purpose optimiser is imported).
+    """
+    if start > _MAX_N:
+        raise SolverError(f"the target power needs more than {_MAX_N:,} per group; the effect is too small to detect")
+    n = max(low, math.floor(start))
     while n > low and power_of(n - 1) >= target:
         n -= 1
     while power_of(n) < target:
         n += 1
         if n > _MAX_N:
-            raise SolverError(f"the target power needs more than {_MAX_N:,} per group")
-    return n, root
+            raise SolverError(f"the target power needs more than {_MAX_N:,} per group; the effect is too small to detect")
+    if n == low:
+        return n, float(low)
+    lo, hi = float(n - 1), float(n)
+    for _ in range(60):  # 2**-60 of one subject: well below any printed digit
+        mid = (lo + hi) / 2.0
+        if power_of(mid) >= target:
+            hi = mid
+        else:
+            lo = mid
+    exact = (lo + hi) / 2.0
+    if not math.isfinite(exact):
+        raise SolverError("the sample-size solver did not converge")
+    return n, exact
 
 
 def sample_size_two_group(
@@ -311,7 +315,7 @@ def sample_size_two_group(
     Notes
     -----
     Smallest n1 such that the exact noncentral-t power with n2 = ceil(ratio n1) reaches the
-    target. d = 0.5, two-sided alpha .05, power .80 gives 64 per group at reliability 1
+    target; ``n_exact`` is the continuous n1 with n2 = ratio n1. d = 0.5, two-sided alpha .05, power .80 gives 64 per group at reliability 1
     (Cohen 1988, Table 2.4.1); under "ctt" 80 per group at rho = .8.
 
     References
@@ -334,12 +338,17 @@ def sample_size_two_group(
         raise ValueError(f"power must exceed alpha/sides ({a / s:g}) to be reachable, got {power!r}")
 
     def solve(d: float) -> tuple[int, float]:
-        return _smallest_n(
-            lambda n1: _t_power(n1, _n2(n1, r), d, a, s),
-            target,
-            lambda v: _t_power(v, max(r * v, 2.0), d, a, s),
-            2,
-        )
+        from scipy import special
+
+        # Normal approximation n1 = (z_a + z_b)^2 (1 + 1/ratio) / d^2 as the starting point.
+        z_sum = float(special.ndtri(1.0 - a / s)) + float(special.ndtri(target))
+        start = z_sum**2 * (1.0 + 1.0 / r) / d**2
+        whole, exact = _smallest_n(lambda v: _t_power(v, max(r * v, 2.0), d, a, s), target, start, 2)
+        # The whole-number search above uses the continuous n2 = ratio * n1; with n2 rounded up the
+        # power can only be higher, so step down while the rounded design still reaches the target.
+        while whole > 2 and _t_power(whole - 1, _n2(whole - 1, r), d, a, s) >= target:
+            whole -= 1
+        return whole, exact
 
     n1, exact = solve(d_obs)
     n1_perfect, _ = solve(d_true)

@@ -1,0 +1,88 @@
+"""Krippendorff's alpha: Krippendorff's published example and the krippendorff package."""
+
+from __future__ import annotations
+
+import krippendorff
+import numpy as np
+import pytest
+
+from protolint.stats import krippendorff_alpha
+
+from .conftest import random_ratings, random_scores
+
+# Krippendorff (2011), "Computing Krippendorff's alpha-reliability", 4 coders x 12 units with
+# missing values: printed .743 / .815 / .849 / .797; full precision from the krippendorff
+# package (and irrCAC for nominal and interval).
+PUBLISHED = {
+    "nominal": (0.743, 0.7434211),
+    "ordinal": (0.815, 0.8153875),
+    "interval": (0.849, 0.8491071),
+    "ratio": (0.797, 0.7974028),
+}
+
+
+@pytest.mark.parametrize("level", list(PUBLISHED))
+def test_published_example_with_missing_values(krippendorff_4x12: np.ndarray, level: str) -> None:
+    r = krippendorff_alpha(krippendorff_4x12, level=level)
+    printed, full = PUBLISHED[level]
+    assert round(r.value, 3) == printed
+    assert r.value == pytest.approx(full, abs=1e-6)
+    # Unit 12 has a single value and is not pairable: 11 units, 40 pairable values.
+    assert (r.n_units, r.n_values) == (11, 40)
+    assert r.value == pytest.approx(1 - r.observed_disagreement / r.expected_disagreement, abs=1e-12)
+
+
+def test_nominal_alpha_on_fleiss_data(fleiss_1971: np.ndarray) -> None:
+    # krippendorff package and irrCAC agree on 0.4334098 (REFERENCE_CHECKS A2).
+    assert krippendorff_alpha(fleiss_1971, "nominal").value == pytest.approx(0.4334098, abs=1e-6)
+    # Gwet's irrCAC documentation, first 15 patients: 0.4204384.
+    assert krippendorff_alpha(fleiss_1971[:15], "nominal").value == pytest.approx(0.4204384, abs=1e-6)
+
+
+@pytest.mark.parametrize("level", ["nominal", "ordinal", "interval", "ratio"])
+@pytest.mark.parametrize("seed,n,k,missing", [(41, 40, 3, 0.1), (42, 100, 6, 0.3), (43, 15, 2, 0.0)])
+def test_agrees_with_krippendorff_package_on_categories(level: str, seed: int, n: int, k: int, missing: float) -> None:
+    x = random_ratings(seed, n, k, 5, missing)
+    expected = krippendorff.alpha(reliability_data=x.T, level_of_measurement=level)  # package: coders x units
+    assert krippendorff_alpha(x, level, n_boot=0).value == pytest.approx(expected, abs=1e-10)
+
+
+@pytest.mark.parametrize("level", ["interval", "ratio", "ordinal"])
+def test_agrees_with_krippendorff_package_on_continuous_scores(level: str) -> None:
+    x = random_scores(44, 30, 4) + 10.0  # positive, as the ratio metric needs
+    x[3, 1] = np.nan
+    expected = krippendorff.alpha(reliability_data=x.T, level_of_measurement=level)
+    assert krippendorff_alpha(x, level, n_boot=0).value == pytest.approx(expected, abs=1e-10)
+
+
+def test_bootstrap_interval_is_reproducible_and_brackets_the_estimate(krippendorff_4x12: np.ndarray) -> None:
+    a = krippendorff_alpha(krippendorff_4x12, "interval", seed=7)
+    b = krippendorff_alpha(krippendorff_4x12, "interval", seed=7)
+    c = krippendorff_alpha(krippendorff_4x12, "interval", seed=8)
+    assert a.ci == b.ci
+    assert a.ci != c.ci
+    assert a.ci is not None and a.ci.low < a.value <= a.ci.high <= 1.0
+    assert a.n_boot == 1000
+    assert krippendorff_alpha(krippendorff_4x12, n_boot=0).ci is None
+
+
+def test_bootstrap_interval_narrows_with_more_units() -> None:
+    small = krippendorff_alpha(random_ratings(45, 30, 3, 5), "ordinal")
+    large = krippendorff_alpha(random_ratings(45, 600, 3, 5), "ordinal")
+    assert small.ci is not None and large.ci is not None
+    assert (large.ci.high - large.ci.low) < (small.ci.high - small.ci.low) / 2
+
+
+@pytest.mark.parametrize(
+    "data,kwargs,message",
+    [
+        (np.eye(3), {"level": "cardinal"}, "level must be one of"),
+        (np.array([[1.0, np.nan], [np.nan, 2.0]]), {}, "two or more values"),
+        (np.full((3, 2), 4.0), {}, "no variation"),
+        (np.array([[-1.0, 2.0], [3.0, 4.0]]), {"level": "ratio"}, "negative"),
+        (np.eye(3), {"n_boot": -5}, "n_boot must be an integer >= 0"),
+    ],
+)
+def test_errors(data: np.ndarray, kwargs: dict[str, object], message: str) -> None:
+    with pytest.raises(ValueError, match=message):
+        krippendorff_alpha(data, **kwargs)  # type: ignore[arg-type]
