@@ -258,7 +258,8 @@ def command(
 
     from protolint import stats
 
-    n_raters, n_occasions = raters or 1, occasions or 1
+    n_raters = 1 if raters is None else raters
+    n_occasions = 1 if occasions is None else occasions
     try:
         rho = (
             stats.reliability_of_mean(single_reliability, n_raters, n_occasions)

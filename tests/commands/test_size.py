@@ -1,0 +1,150 @@
+"""``protolint size``: DESIGN section 5 figures, Cohen (1988), the JSON contract and bad input."""
+
+from __future__ import annotations
+
+import json
+import os
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+from statsmodels.stats.power import TTestIndPower
+
+from protolint import CAUTION
+from protolint.cli import main
+
+ROOT = Path(__file__).parents[2]
+CONTRACT_KEYS = [
+    "design", "effect_size", "alpha", "power", "sides", "reliability", "effect_size_observed",
+    "n_per_group", "n_total", "n_total_perfect_reliability", "inflation",
+]
+
+
+def run(*args: str) -> tuple[int, str, str]:
+    result = CliRunner().invoke(main, ["size", *args], catch_exceptions=False)
+    return result.exit_code, result.stdout, result.stderr
+
+
+def run_json(*args: str) -> dict:
+    code, out, err = run(*args, "--format", "json")
+    assert code == 0, err
+    return json.loads(out)
+
+
+def test_design_section_3_example() -> None:
+    report = run_json("--effect-size", "0.5", "--reliability", "0.8")
+    assert list(report)[: len(CONTRACT_KEYS)] == CONTRACT_KEYS
+    # DESIGN section 3/5: d .5, rho .8 -> 80 + 80 = 160, 128 at rho 1, inflation 1.25;
+    # observed d = .5 sqrt(.8) = 0.447.
+    assert report["design"] == "two-group"
+    assert (report["effect_size"], report["alpha"], report["power"], report["sides"], report["reliability"]) == (0.5, 0.05, 0.8, 2, 0.8)
+    assert round(report["effect_size_observed"], 3) == 0.447
+    assert report["n_per_group"] == [80, 80]
+    assert report["n_total"] == 160
+    assert report["n_total_perfect_reliability"] == 128
+    assert report["inflation"] == 1.25
+    assert report["achieved_power"] >= 0.8
+    assert report["caution"] == CAUTION
+
+
+@pytest.mark.parametrize("convention,rho,n_total", [("ctt", "0.4", 316), ("true-score", "0.8", 200), ("true-score", "0.4", 788)])
+def test_conventions_by_name(convention: str, rho: str, n_total: int) -> None:
+    # DESIGN section 5: 316 at rho .4 (ctt); 200 at .8 and 788 ("almost 800") at .4 (true-score).
+    report = run_json("--effect-size", "0.5", "--reliability", rho, "--convention", convention)
+    assert report["n_total"] == n_total and report["convention"] == convention
+
+
+def test_difference_and_sd_with_raters_and_dropout() -> None:
+    report = run_json("--difference", "3", "--sd", "6", "--single-reliability", "0.6", "--raters", "2", "--dropout", "0.1")
+    # d = 3/6 = .5; Spearman-Brown of .6 with 2 raters = .75 (formula); exact t n checked
+    # against statsmodels' continuous solution.
+    assert report["effect_size"] == 0.5 and report["reliability"] == pytest.approx(0.75)
+    exact = TTestIndPower().solve_power(effect_size=0.5 * 0.75**0.5, alpha=0.05, power=0.8)
+    assert report["n_per_group"] == [int(-(-exact // 1))] * 2
+    assert report["n_per_group_enrolled"] == [-(-report["n_per_group"][0] * 10 // 9)] * 2
+    assert report["reliability_from"] == {"single_reliability": 0.6, "raters": 2, "occasions": 1,
+                                          "rule": "Spearman-Brown over raters x occasions ratings"}
+
+
+def test_cohen_1988_anchor_without_reliability() -> None:
+    # Cohen (1988) Table 2.4.1: d .8, power .90 -> 34 per group (exact noncentral t 33.83 -> 34).
+    report = run_json("--effect-size", "0.8", "--power", "0.9")
+    assert report["n_per_group"] == [34, 34] and report["reliability"] == 1.0 and report["inflation"] == 1.0
+
+
+def test_one_sided_and_allocation_ratio() -> None:
+    report = run_json("--effect-size", "0.5", "--sides", "1", "--ratio", "2")
+    n1, n2 = report["n_per_group"]
+    assert n2 == 2 * n1 and report["sides"] == 1
+    power = TTestIndPower().power(effect_size=0.5, nobs1=n1, alpha=0.05, ratio=2, alternative="larger")
+    assert report["achieved_power"] == pytest.approx(power, abs=1e-8)
+
+
+def test_curve_json_and_text() -> None:
+    report = run_json("--effect-size", "0.5", "--curve")
+    curve = report["curve"]
+    assert [point["reliability"] for point in curve] == [round(0.40 + 0.05 * i, 2) for i in range(13)]
+    by_rho = {point["reliability"]: point["n_total"] for point in curve}
+    # DESIGN section 5 (ctt, exact t): 316 / 212 / 160 / 128 at rho .4 / .6 / .8 / 1.
+    assert (by_rho[0.4], by_rho[0.6], by_rho[0.8], by_rho[1.0]) == (316, 212, 160, 128)
+    assert all(a["n_total"] >= b["n_total"] for a, b in zip(curve, curve[1:]))
+    code, out, _ = run("--effect-size", "0.5", "--curve")
+    assert code == 0 and "Required N by reliability" in out and "316" in out
+
+
+def test_correlation_design() -> None:
+    report = run_json("--effect-size", "0.3", "--design", "correlation")
+    # Cohen (1992) Table 2 (recalled): r .30 -> 85; Fisher z formula 84.93 -> 85.
+    assert report["design"] == "correlation" and report["n_total"] == 85 and report["n_per_group"] is None
+    attenuated = run_json("--effect-size", "0.3", "--design", "correlation", "--reliability", "0.8", "--reliability-other", "0.8")
+    assert attenuated["effect_size_observed"] == pytest.approx(0.24)
+    assert attenuated["n_total_perfect_reliability"] == 85 and attenuated["n_total"] > 85
+
+
+def test_text_report_ends_with_caution() -> None:
+    code, out, err = run("--effect-size", "0.5", "--reliability", "0.8")
+    assert code == 0 and err == ""
+    assert "80 + 80 = 160" in out and "classical test theory" in out
+    assert " ".join(out.split()).endswith(" ".join(CAUTION.split()))
+
+
+@pytest.mark.parametrize(
+    "args,message",
+    [
+        ([], "give --effect-size, or --difference together with --sd"),
+        (["--effect-size", "0.5", "--difference", "2"], "not both"),
+        (["--difference", "2"], "--difference together with --sd"),
+        (["--difference", "2", "--sd", "0"], "--sd must be greater than 0"),
+        (["--effect-size", "0.5", "--reliability", "1.5"], "reliability must be in (0, 1], got 1.5"),
+        (["--effect-size", "0.5", "--raters", "2"], "--raters and --occasions need --single-reliability"),
+        (["--effect-size", "0.5", "--reliability", "0.8", "--single-reliability", "0.5"], "not both"),
+        (["--effect-size", "0.5", "--single-reliability", "0.5", "--raters", "0"], "raters must be an integer >= 1"),
+        (["--effect-size", "0.5", "--dropout", "1"], "dropout must be in [0, 1)"),
+        (["--effect-size", "0.5", "--alpha", "0"], "alpha must be in (0, 1)"),
+        (["--effect-size", "0.00001"], "too small to detect"),
+        (["--effect-size", "0.3", "--design", "correlation", "--convention", "ctt"], "--convention applies"),
+    ],
+)
+def test_bad_input_exits_2_with_one_line(args: list[str], message: str) -> None:
+    code, out, err = run(*args)
+    assert code == 2 and out == ""
+    assert message in err
+    assert len(err.strip().splitlines()) == 1
+
+
+def test_subprocess_and_output_file(tmp_path: Path) -> None:
+    env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    target = tmp_path / "size.json"
+    done = subprocess.run(
+        [sys.executable, "-m", "protolint", "size", "--effect-size", "0.5", "--reliability", "0.8",
+         "--format", "json", "--output", str(target)],
+        capture_output=True, text=True, env=env, cwd=ROOT,
+    )
+    assert done.returncode == 0 and done.stdout == ""
+    assert json.loads(target.read_text())["n_total"] == 160
+    bad = subprocess.run([sys.executable, "-m", "protolint", "size", "--effect-size", "abc"], capture_output=True, text=True, env=env)
+    assert bad.returncode == 2 and "Traceback" not in bad.stderr
+    helped = subprocess.run([sys.executable, "-m", "protolint", "size", "--help"], capture_output=True, text=True, env=env)
+    assert helped.returncode == 0 and "protolint size --effect-size 0.5 --reliability 0.8" in helped.stdout
