@@ -1,3 +1,14 @@
 """Rule families. Importing this package registers every rule once."""
 
-from protolint.rules import blinding, builtin, documents, monitoring, raters, sop  # noqa: F401
+from protolint.rules import (  # noqa: F401
+    blinding,
+    builtin,
+    documents,
+    evidence,
+    monitoring,
+    power,
+    raters,
+    schedule,
+    sop,
+    training,
+)

@@ -57,3 +57,82 @@ def prior_scores_visible(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
         where = endpoint.path + ("blinded_to",) if endpoint.blinded_to is not None else endpoint.path + ("visits",)
         yield Hit(where, f"endpoint {endpoint.id} is rated at {len(endpoint.visits)} visits but nothing keeps the "
                          "participant's earlier scores from its raters")
+
+
+_CLINICAL_ROLES = ("treating-clinician", "investigator", "safety-assessor", "dispenser")
+
+
+@rule("blinding/rater-has-clinical-role", "warning",
+      source="Hróbjartsson et al. 2012, BMJ 344:e1119 and 2013, CMAJ 185:E201 (observer bias); role separation: common practice")
+def rater_has_clinical_role(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Raters also treat, dispense to, or assess the safety of the participants they rate.
+
+    A rater who sees adverse events, dosing or the participant's own account of treatment can
+    guess the arm even when formally blinded. When `rater_roles` lists a clinical role, the
+    endpoint needs an `unblinding_mitigation` (an independent rater, central rating of
+    recordings).
+
+    **Passes**: `rater_roles: [none]`.
+
+    **Fails**: `rater_roles: [treating-clinician]` and no `unblinding_mitigation`.
+    """
+    for endpoint in plan.endpoints:
+        roles = [r for r in endpoint.rater_roles if r in _CLINICAL_ROLES]
+        if roles and not endpoint.unblinding_mitigation and plan.instrument(endpoint.instrument).is_rated_by_people:
+            yield Hit(endpoint.path + ("rater_roles",),
+                      f"raters of endpoint {endpoint.id} also act as {', '.join(roles)} for the same participants, which "
+                      "can reveal treatment; separate the roles or describe an unblinding_mitigation")
+
+
+@rule("blinding/no-unblinding-procedure", "warning",
+      source="ICH E6(R3) 4.1 and 3.16.1(g) (unblinding documented and its impact assessed)")
+def no_unblinding_procedure(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Nothing says what happens when a rater becomes unblinded.
+
+    Accidental unblinding happens (a participant mentions side effects, a label is left on a
+    tube). The plan should say how it is documented, how its impact is judged and whether a
+    new rater takes over. Satisfied by the pool's `unblinding_procedure`, a `rater-unblinded`
+    deviation, or an SOP covering `unblinding`.
+
+    **Passes**: `unblinding_procedure:` described for the pool.
+
+    **Fails**: no pool procedure, no `rater-unblinded` deviation and no SOP covering unblinding.
+    """
+    if any(d.kind == "rater-unblinded" for d in plan.deviations):
+        return
+    if any(sop.covers and "unblinding" in sop.covers.procedures for sop in plan.sops):
+        return
+    for pool in plan.rater_pools:
+        if not any(plan.instrument(i).is_rated_by_people for i in pool.instruments) or pool.unblinding_procedure:
+            continue
+        yield Hit(pool.path + ("id",), f"rater pool {pool.id} has no procedure for a rater who learns a participant's "
+                                       "treatment; say how it is documented and who rates afterwards")
+
+
+@rule("blinding/eligibility-rated-unconfirmed", "note",
+      source="Kobak et al. 2010, J Clin Psychopharmacol (site versus central ratings at entry) [author list from memory]; common practice")
+def eligibility_rated_unconfirmed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Site raters who know the entry cut-off rate eligibility, with no independent confirmation.
+
+    Under enrolment pressure, site raters tend to score borderline candidates just above the
+    entry cut-off; baseline is inflated and the later improvement looks larger than it is.
+    An eligibility cut-off rated at a site should be confirmed centrally or by an independent
+    rater (`confirmation`), or raters should not know the cut-off (`eligibility-cutoff` in
+    `blinded_to`).
+
+    **Passes**: `{kind: eligibility, value: 16, confirmation: central}`.
+
+    **Fails**: `{kind: eligibility, value: 16, confirmation: none}` rated by a site pool.
+    """
+    for endpoint in plan.endpoints:
+        if endpoint.use is None or not plan.instrument(endpoint.instrument).is_rated_by_people:
+            continue
+        if plan.pool(endpoint.rater_pool).location == "central":
+            continue
+        if endpoint.blinded_to and "eligibility-cutoff" in endpoint.blinded_to:
+            continue
+        for cutoff in endpoint.use.thresholds:
+            if cutoff.kind == "eligibility" and cutoff.confirmation in (None, "none"):
+                yield Hit(cutoff.path + (("confirmation",) if cutoff.confirmation else ("kind",)),
+                          f"eligibility on endpoint {endpoint.id} (cut-off {cutoff.value:g}) is rated by site raters who know "
+                          "the cut-off, with no independent confirmation; confirm centrally or hide the cut-off from raters")

@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan
-from protolint.rules.registry import Hit, RuleContext, rule
+from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 
 @rule("monitoring/none-planned", "error",
@@ -57,3 +57,153 @@ def interval_beyond_participation(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
                       f"rater pool {pool.id} is monitored every {monitoring.interval_weeks} weeks, longer than the "
                       f"{span // 7} weeks a participant is rated",
                       {"interval_days": monitoring.interval_weeks * 7, "participant_days": span})
+
+
+def _people_pools(plan: Plan):
+    return [pool for pool in plan.rater_pools if any(plan.instrument(i).is_rated_by_people for i in pool.instruments)]
+
+
+@rule("monitoring/no-rounds-in-rating-period", "warning", computed=True,
+      source="common practice (arithmetic on the plan's schedule); rater drift: Mulsant et al. 2002, Am J Psychiatry 159:1598")
+def no_rounds_in_rating_period(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Monitoring is so infrequent that no round falls inside the trial's rating period.
+
+    The rating period runs from the first participant's first rated assessment to the last
+    participant's last: `study.first_assessment` plus the enrolment period plus one
+    participant's rated span (see the timeline conventions). The number of monitoring rounds
+    inside it is floor(rating period / interval). Zero rounds means raters are never checked
+    while data are collected.
+
+    **Passes**: interval 12 weeks, rating period 80 weeks (6 rounds).
+
+    **Fails**: interval 104 weeks, rating period 80 weeks (0 rounds).
+    """
+    from protolint.plan.timeline import study_window
+
+    window = study_window(plan)
+    for pool in _people_pools(plan):
+        monitoring = pool.monitoring
+        if monitoring is None or monitoring.interval_weeks is None:
+            continue
+        interval_days = monitoring.interval_weeks * 7
+        rounds = window.days // interval_days
+        if rounds == 0:
+            yield Hit(monitoring.path + ("interval_weeks",),
+                      f"rater pool {pool.id} is monitored every {monitoring.interval_weeks} weeks, but rating runs only "
+                      f"{window.days} days ({window.first.isoformat()} to {window.last.isoformat()}): floor({window.days} / "
+                      f"{interval_days}) = 0 monitoring rounds while data are collected; shorten the interval",
+                      {"pool": pool.id, "rating_period_days": window.days, "first_rating": window.first.isoformat(),
+                       "last_rating": window.last.isoformat(), "interval_days": interval_days, "rounds": 0,
+                       "formula": "rounds = floor(rating period / interval)"})
+
+
+@rule("monitoring/interval-exceeds-drift-window", "warning", computed=True,
+      thresholds=[Threshold("max_interval_weeks", 26, "Longest acceptable gap between monitoring rounds (the drift window).", 1, 260)],
+      source="common practice (recalibration within months; no published interval); rater drift: Mulsant et al. 2002, Am J Psychiatry 159:1598")
+def interval_exceeds_drift_window(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Monitoring rounds are further apart than the drift window.
+
+    Drift builds up gradually; the longer the gap between checks, the more ratings a drifting
+    rater makes before anyone notices. The rule reports intervals longer than
+    `max_interval_weeks` together with the number of rounds inside the rating period.
+
+    **Passes**: monitoring every 12 weeks.
+
+    **Fails**: monitoring every 52 weeks against a 26-week drift window.
+    """
+    from protolint.plan.timeline import study_window
+
+    window = study_window(plan)
+    limit = int(ctx.thresholds["max_interval_weeks"])
+    for pool in _people_pools(plan):
+        monitoring = pool.monitoring
+        if monitoring is None or monitoring.interval_weeks is None or monitoring.interval_weeks <= limit:
+            continue
+        rounds = window.days // (monitoring.interval_weeks * 7)
+        yield Hit(monitoring.path + ("interval_weeks",),
+                  f"rater pool {pool.id} is monitored every {monitoring.interval_weeks} weeks, longer than the {limit}-week "
+                  f"drift window; that gives {rounds} round(s) in {window.days} days of rating, so a drifting rater can rate "
+                  f"for up to {monitoring.interval_weeks} weeks unnoticed",
+                  {"pool": pool.id, "interval_weeks": monitoring.interval_weeks, "max_interval_weeks": limit,
+                   "rating_period_days": window.days, "rounds": rounds})
+
+
+@rule("monitoring/recertification-too-infrequent", "warning",
+      thresholds=[Threshold("max_months", 12, "Longest a certification may stay valid without recertification.", 1, 120)],
+      source="common practice (yearly recertification); ICH E6(R3) 2.3.2")
+def recertification_too_infrequent(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Raters are never recertified, or only after a long interval.
+
+    Certification shows a rater could score the instrument on a given day. In a long trial
+    raters should certify again at a set interval and after events that change the task.
+
+    **Passes**: `recertification: {interval_months: 12, triggers: [amendment]}`.
+
+    **Fails**: no `recertification`, or `interval_months: 24`.
+    """
+    limit = int(ctx.thresholds["max_months"])
+    for pool in _people_pools(plan):
+        recert = pool.recertification
+        if recert is None or recert.interval_months is None:
+            where = recert.path if recert is not None else pool.path + ("id",)
+            yield Hit(where, f"rater pool {pool.id} sets no recertification interval; recertify at least every {limit} months")
+        elif recert.interval_months > limit:
+            yield Hit(recert.path + ("interval_months",),
+                      f"rater pool {pool.id} recertifies every {recert.interval_months} months, longer than {limit}",
+                      {"pool": pool.id, "interval_months": recert.interval_months, "max_months": limit})
+
+
+@rule("monitoring/no-drift-criteria", "warning",
+      source="ICH E6(R3) 3.11.4.5.4 (look for outliers, lack of variability and trends within and across sites) and principle 6.3")
+def no_drift_criteria(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Monitoring does not say what counts as drift or what happens then.
+
+    A monitoring round is useful only if it measures something per rater (`metrics`), has an
+    action threshold (`drift_threshold`) and a `remediation` (retrain, suspend, recertify, and
+    what becomes of the ratings made meanwhile).
+
+    **Passes**: monitoring with `metrics`, `drift_threshold: {max_deviation: 4}` and `remediation`.
+
+    **Fails**: monitoring with `interval_weeks` and `method` only.
+    """
+    for pool in _people_pools(plan):
+        monitoring = pool.monitoring
+        if monitoring is None:
+            continue
+        missing = [name for name, value in (("metrics", monitoring.metrics), ("drift_threshold", monitoring.drift_threshold),
+                                            ("remediation", monitoring.remediation)) if not value]
+        if missing:
+            yield Hit(monitoring.path, f"monitoring of rater pool {pool.id} does not state its {', '.join(missing)}; say what is "
+                                       "measured per rater, when it counts as drift and what is done then")
+
+
+_DUPLICATING = frozenset({"co-rating", "central-re-rating", "video-review"})
+
+
+@rule("monitoring/no-duplicate-ratings", "note",
+      thresholds=[Threshold("min_duplicate_fraction", 0.05, "Smallest share of trial assessments rated twice independently.", 0.0, 1.0)],
+      source="Lachin 2004, Clin Trials 1:553 (quality control by randomly selected duplicate assessments); the fraction is common practice")
+def no_duplicate_ratings(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """No random share of real trial assessments is rated a second time.
+
+    Certification shows reliability on training material; only duplicate ratings of trial
+    assessments (co-rating, blind review of recordings, central re-rating) show what the trial
+    achieved, so that it can be reported with the results.
+
+    **Passes**: `method: [central-re-rating]` with `duplicate_fraction: 0.1`.
+
+    **Fails**: `method: [data-surveillance]` only, or `duplicate_fraction: 0.02`.
+    """
+    minimum = float(ctx.thresholds["min_duplicate_fraction"])
+    for pool in _people_pools(plan):
+        monitoring = pool.monitoring
+        if monitoring is None or not monitoring.method:
+            continue
+        if not _DUPLICATING & set(monitoring.method):
+            yield Hit(monitoring.path + ("method",),
+                      f"monitoring of rater pool {pool.id} re-rates no trial assessments; add co-rating, video review or "
+                      f"central re-rating of at least {minimum:.0%} of assessments")
+        elif monitoring.duplicate_fraction is not None and monitoring.duplicate_fraction < minimum:
+            yield Hit(monitoring.path + ("duplicate_fraction",),
+                      f"rater pool {pool.id} re-rates {monitoring.duplicate_fraction:.0%} of assessments, less than {minimum:.0%}",
+                      {"pool": pool.id, "duplicate_fraction": monitoring.duplicate_fraction, "minimum": minimum})

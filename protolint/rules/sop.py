@@ -89,3 +89,75 @@ def review_overdue(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
             yield Hit(sop.path + ("review_due",),
                       f"{sop.id} is due for review on {sop.review_due.isoformat()}, within {soon} days of {ctx.as_of.isoformat()}",
                       facts, severity=Severity.NOTE)
+
+
+@rule("sop/approval-incomplete", "error",
+      source="ICH E6(R3) Appendix C (authors, reviewers and approvers with dates and signatures); 21 CFR 11.50 (meaning of a signature); ISO 9001:2015 7.5.2")
+def approval_incomplete(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """An SOP in use has no owner, no approval, or an approval without role or meaning.
+
+    A controlled procedure names who owns it and who approved this version, when, in what
+    role and with what meaning ('approved for use'). Draft SOPs are not checked.
+
+    **Passes**: `owner` set and `approvals: [{name: ..., role: Head of Clinical Science, date: ..., meaning: approved for use}]`.
+
+    **Fails**: no `approvals`, or an approval without `meaning`.
+    """
+    for sop in plan.sops:
+        if sop.status == "draft":
+            continue
+        if not sop.owner:
+            yield Hit(sop.path + ("id",), f"{sop.id} names no owner")
+        if not sop.approvals:
+            yield Hit(sop.path + ("version",), f"{sop.id} version {sop.version} has no recorded approval")
+        for approval in sop.approvals:
+            missing = [n for n, v in (("role", approval.role), ("meaning", approval.meaning)) if not v]
+            if missing:
+                yield Hit(approval.path + ("name",), f"the approval of {sop.id} by {approval.name} does not state its "
+                                                     f"{' or '.join(missing)}")
+
+
+@rule("sop/approved-after-effective", "error", computed=True,
+      source="ISO 9001:2015 7.5.2 (documents approved before release); ICH E6(R3) Appendix C")
+def approved_after_effective(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """An SOP takes effect before it was approved.
+
+    A procedure cannot be in force before it is approved. The latest approval date of the
+    version must be on or before its `effective` date.
+
+    **Passes**: approved 2026-08-01, effective 2026-08-15.
+
+    **Fails**: approved 2026-08-20, effective 2026-08-15.
+    """
+    for sop in plan.sops:
+        if not sop.approvals:
+            continue
+        last = max(sop.approvals, key=lambda a: a.date)
+        if last.date > sop.effective:
+            yield Hit(last.path + ("date",),
+                      f"{sop.id} version {sop.version} is effective from {sop.effective.isoformat()} but approved only on "
+                      f"{last.date.isoformat()}; move the effective date or the approval",
+                      {"sop": sop.id, "effective": sop.effective.isoformat(), "approved": last.date.isoformat()})
+
+
+@rule("sop/not-in-force", "error",
+      source="ISO 9001:2015 7.5.3.2 (prevent unintended use of obsolete documented information); ICH E6(R3) Appendix C")
+def not_in_force(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """A rated instrument is covered only by SOPs that are drafts, superseded or retired.
+
+    Raters must work to the current approved version. When every SOP that names an
+    instrument is a draft, superseded or retired, the instrument is governed by a document
+    that is not in force.
+
+    **Passes**: an `effective` SOP covers the instrument.
+
+    **Fails**: the only SOP covering the instrument has `status: superseded`.
+    """
+    for instrument in plan.instruments:
+        if not instrument.is_rated_by_people or not plan.endpoints_for(instrument.id):
+            continue
+        covering = [s for s in plan.sops if s.covers and instrument.id in s.covers.instruments]
+        if covering and all(s.status in ("draft", "superseded", "retired") for s in covering):
+            for sop in covering:
+                yield Hit(sop.path + ("status",), f"{sop.id} is {sop.status} but is the only SOP covering {instrument.id}; "
+                                                  "issue an effective version")

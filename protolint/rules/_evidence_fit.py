@@ -1,0 +1,149 @@
+"""What a reliability evidence record says, and how it applies to the way the trial rates.
+
+Shared by the evidence, power and training rules so that they agree on which evidence counts,
+which ICC form it is, and what reliability the trial can expect.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from typing import Iterable, Iterator
+
+from protolint.plan.model import Endpoint, Evidence, Instrument, Plan
+from protolint.rules._working import single_from_average, spearman_brown
+from protolint.rules.registry import Hit
+
+_ICC = re.compile(r"^ICC\((?P<model>[123AC]),(?P<type>1|k)\)$")
+
+KAPPAS = frozenset({"cohen-kappa", "fleiss-kappa", "weighted-kappa", "weighted-kappa-linear", "weighted-kappa-quadratic"})
+UNWEIGHTED_KAPPAS = frozenset({"cohen-kappa", "fleiss-kappa"})
+WEIGHTED_KAPPAS = frozenset({"weighted-kappa-linear", "weighted-kappa-quadratic"})
+CORRELATIONS = frozenset({"pearson-r", "spearman-rho"})
+REPEATED_TYPES = frozenset({"inter-rater", "intra-rater", "test-retest"})
+
+
+@dataclass(frozen=True)
+class IccForm:
+    """An ICC form in Shrout & Fleiss or McGraw & Wong notation."""
+
+    model: str
+    """'1', '2', '3' (Shrout & Fleiss) or 'A', 'C' (McGraw & Wong)."""
+    average: bool
+
+    @property
+    def consistency(self) -> bool:
+        # ICC(3,.) of Shrout & Fleiss is McGraw & Wong's consistency form ICC(C,.).
+        return self.model in ("3", "C")
+
+
+def icc_form(coefficient: str) -> IccForm | None:
+    match = _ICC.match(coefficient)
+    if match is None:
+        return None
+    return IccForm(match["model"], match["type"] == "k")
+
+
+def is_icc(coefficient: str) -> bool:
+    return coefficient == "ICC" or icc_form(coefficient) is not None
+
+
+def fitting_type(instrument: Instrument) -> str:
+    """The evidence type that shows reproducibility for this kind of instrument."""
+    return "inter-rater" if instrument.is_rated_by_people else "test-retest"
+
+
+def usable_coefficient(evidence: Evidence, scale_type: str) -> bool:
+    """A coefficient that can stand for the reliability of this kind of score."""
+    c = evidence.coefficient
+    if scale_type == "interval":
+        return icc_form(c) is not None
+    if scale_type == "ordinal":
+        return icc_form(c) is not None or c in WEIGHTED_KAPPAS or c == "krippendorff-alpha"
+    return c in KAPPAS or c in ("krippendorff-alpha", "gwet-ac1")
+
+
+def fitting_evidence(instrument: Instrument) -> tuple[Evidence, ...]:
+    """Evidence of the right type with a coefficient that suits the score."""
+    wanted = fitting_type(instrument)
+    return tuple(e for e in instrument.evidence
+                 if e.type == wanted and usable_coefficient(e, instrument.scale.type))
+
+
+def ratings_averaged(evidence: Evidence) -> int | None:
+    """How many ratings an average-form coefficient averaged (None for single forms)."""
+    form = icc_form(evidence.coefficient)
+    if form is None or not form.average:
+        return None
+    return evidence.averaged_over or evidence.raters
+
+
+def single_rating_value(evidence: Evidence) -> float:
+    """The reliability of one rating: average forms are stepped down by Spearman-Brown."""
+    k = ratings_averaged(evidence)
+    if k is None or k <= 1:
+        return evidence.value
+    return single_from_average(evidence.value, k)
+
+
+def trial_ratings(endpoint: Endpoint) -> int:
+    """Independent ratings averaged per assessment in the trial (raters x occasions).
+
+    Consensus or sequential ratings are not independent, so they earn no Spearman-Brown gain.
+    """
+    if endpoint.combination in ("consensus", "sequential"):
+        return 1
+    return endpoint.raters_per_assessment * (endpoint.occasions_per_assessment or 1)
+
+
+@dataclass(frozen=True)
+class TrialReliability:
+    evidence: Evidence
+    single: float
+    ratings: int
+    reliability: float
+
+
+def trial_reliability(plan: Plan, endpoint: Endpoint) -> TrialReliability | None:
+    """The reliability the evidence supports for the way this endpoint is rated.
+
+    Takes the least favourable fitting record, so that a plan is never credited with its best
+    study alone.
+    """
+    instrument = plan.instrument(endpoint.instrument)
+    candidates = fitting_evidence(instrument)
+    if not candidates:
+        return None
+    evidence = min(candidates, key=single_rating_value)
+    single = single_rating_value(evidence)
+    m = trial_ratings(endpoint)
+    return TrialReliability(evidence, single, m, spearman_brown(single, m) if m > 1 else single)
+
+
+def evidence_pairs(plan: Plan) -> Iterator[tuple[Instrument, Evidence, tuple[Endpoint, ...]]]:
+    """Each evidence record of an instrument that some endpoint uses, with those endpoints."""
+    for instrument in plan.instruments:
+        endpoints = plan.endpoints_for(instrument.id)
+        if not endpoints:
+            continue
+        for evidence in instrument.evidence:
+            yield instrument, evidence, endpoints
+
+
+def individual_use(endpoint: Endpoint) -> bool:
+    """Whether scores decide something about one participant."""
+    use = endpoint.use
+    return use is not None and (bool(use.individual_decisions) or bool(use.thresholds))
+
+
+def unique(hits: Iterable[Hit]) -> Iterator[Hit]:
+    """Drop repeated hits at the same place (two endpoints sharing one instrument)."""
+    seen: set[tuple[object, ...]] = set()
+    for hit in hits:
+        if hit.path not in seen:
+            seen.add(hit.path)
+            yield hit
+
+
+def same_text(a: str, b: str) -> bool:
+    return " ".join(a.lower().split()) == " ".join(b.lower().split())

@@ -1,0 +1,174 @@
+"""Training rules: raters are trained, certified precisely enough, and retrained when the protocol changes."""
+
+from __future__ import annotations
+
+from typing import Iterator
+
+from protolint.plan.model import Plan, RaterPool
+from protolint.rules._working import PLANNING_AID, fmt
+from protolint.rules.registry import Hit, RuleContext, Threshold, rule
+
+# Amendment changes that alter what a rater does; a change of rated visits alone does not.
+_RATER_CHANGES = frozenset({"instrument-version", "administration", "scoring"})
+
+
+def _people_pools(plan: Plan) -> list[RaterPool]:
+    return [pool for pool in plan.rater_pools if any(plan.instrument(i).is_rated_by_people for i in pool.instruments)]
+
+
+@rule("training/no-training-plan", "error",
+      source="ICH E6(R3) 2.3.2 (trial-specific training for delegated tasks); SPIRIT 2013 item 18a (assessor training)")
+def no_training_plan(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """A rater pool has no initial training, or its training has no content.
+
+    Raters need trial-specific training on the construct, the administration and the scoring
+    conventions before certification. A pool needs `training` with its `content`.
+
+    **Passes**: `training: {content: [rating conventions, practice ratings], format: web session}`.
+
+    **Fails**: a pool without `training`, or `training: {hours: 2}` with no content.
+    """
+    for pool in _people_pools(plan):
+        if pool.training is None:
+            yield Hit(pool.path + ("id",), f"rater pool {pool.id} has no initial training; describe its content, format and trainer")
+        elif not pool.training.content:
+            yield Hit(pool.path + ("training",), f"the training of rater pool {pool.id} does not say what it covers; list its content")
+
+
+@rule("training/reference-scores-unstated", "warning",
+      source="common practice (certification against reference scores set by a named expert panel)")
+def reference_scores_unstated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Certification does not say how its reference scores were set.
+
+    A certification exercise compares each rater with reference ('gold-standard') scores. If
+    those scores were set by one person, or nobody can say how, passing means agreeing with an
+    unknown judgement. `certification.reference_scores` should say who set them and how.
+
+    **Passes**: `reference_scores: Consensus of three senior dermatologists.`
+
+    **Fails**: a certification without `reference_scores`.
+    """
+    for pool in _people_pools(plan):
+        cert = pool.certification
+        if cert is not None and cert.method != "co-rating" and not cert.reference_scores:
+            yield Hit(pool.path + ("certification",),
+                      f"the certification of rater pool {pool.id} does not say how its reference scores were set")
+
+
+def _certification_rho(pool: RaterPool, assumed: float) -> tuple[float, str]:
+    cert = pool.certification
+    if cert is not None and cert.expected_icc is not None:
+        return cert.expected_icc, "certification.expected_icc"
+    criterion = cert.criterion if cert else None
+    if criterion is not None and criterion.minimum is not None and criterion.coefficient and criterion.coefficient.startswith("ICC"):
+        return criterion.minimum, "the pass criterion's minimum ICC"
+    return assumed, "the rule's assumed_icc"
+
+
+@rule("training/certification-too-small", "warning", computed=True,
+      thresholds=[Threshold("min_cases", 10, "Fewest reference cases a certification should use.", 1, 1000),
+                  Threshold("max_ci_width", 0.40, "Widest acceptable 95 % interval of one rater's agreement with the reference.", 0.01, 1.0),
+                  Threshold("assumed_icc", 0.80, "Agreement assumed when the plan gives neither expected_icc nor an ICC criterion.", 0.0, 0.99)],
+      source="Bonett 2002, Stat Med 21:1331 (interval width of an ICC); Walter, Eliasziw & Donner 1998, Stat Med 17:101; default width: common practice")
+def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Certification uses too few reference cases to tell a good rater from a poor one.
+
+    Each rater's pass or fail rests on their agreement with the reference scores over the
+    certification cases: an ICC between two score sets (k = 2) from n cases. Its expected
+    95 % interval width is worked out with Bonett's (2002) formula at the expected agreement
+    (the pool's `expected_icc`, else its ICC pass minimum, else `assumed_icc`), together with
+    the number of cases that would reach `max_ci_width`. With few cases a rater passes or
+    fails largely by chance.
+
+    **Passes**: 40 cases at an expected ICC of 0.80 (width ≈ 0.23).
+
+    **Fails**: 4 cases at an expected ICC of 0.80 (width ≈ 0.81; 18 cases reach 0.40).
+    """
+    from protolint.rules._working import bonett_subjects, bonett_width
+
+    min_cases = int(ctx.thresholds["min_cases"])
+    max_width = float(ctx.thresholds["max_ci_width"])
+    for pool in _people_pools(plan):
+        cert = pool.certification
+        if cert is None or cert.cases is None or cert.method == "co-rating":
+            continue
+        rho, basis = _certification_rho(pool, float(ctx.thresholds["assumed_icc"]))
+        rho = min(rho, 0.99)
+        n = cert.cases
+        width = bonett_width(rho, 2, n) if n >= 2 else float("inf")
+        if width <= max_width and n >= min_cases:
+            continue
+        needed = bonett_subjects(rho, 2, max_width)
+        shown = "cannot be estimated" if n < 2 else f"is about {fmt(width, 2)} wide"
+        yield Hit(cert.path + ("cases",),
+                  f"rater pool {pool.id} certifies on {n} case(s): at an expected ICC of {fmt(rho)} ({basis}) the 95 % "
+                  f"interval of a rater's agreement with the reference {shown} (Bonett 2002); {needed} cases would bring it to "
+                  f"{fmt(max_width, 2)}, and at least {min_cases} are expected — {PLANNING_AID}",
+                  {"pool": pool.id, "cases": n, "k": 2, "expected_icc": rho, "expected_icc_basis": basis,
+                   "formula": "Bonett 2002: w = 2 z (1 - r)(1 + (k - 1) r) sqrt(2 / (k (k - 1)(n - 1))), k = 2",
+                   "ci_width": None if n < 2 else round(width, 4), "max_ci_width": max_width,
+                   "cases_for_max_width": needed, "min_cases": min_cases})
+
+
+@rule("training/no-records", "error",
+      source="ICH E6(R3) Appendix C (trial-specific training records and delegation documentation are essential records)")
+def no_records(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """The plan does not say how training and certification are recorded.
+
+    Inspectors check that only trained, certified and delegated staff rated. Each pool's
+    `training.records` should say where dated, per-rater training and certification records
+    are kept and how they link to the site's delegation log.
+
+    **Passes**: `records: Dated certificates filed in the site binder and linked to the delegation log.`
+
+    **Fails**: `training` without `records`.
+    """
+    for pool in _people_pools(plan):
+        if pool.training is not None and not pool.training.records:
+            yield Hit(pool.training.path, f"the training of rater pool {pool.id} does not say how training and "
+                                          "certification are recorded; name the record and where it is filed")
+
+
+@rule("training/no-recertification-after-amendment", "error", computed=True,
+      source="ICH E6(R3) 2.3.2 (training matches the activities as currently specified); FDA 2009 PRO guidance (modified instruments)")
+def no_recertification_after_amendment(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """An amendment changes how a rated instrument is administered or scored, and raters are not recertified by its date.
+
+    Raters keep applying the old rules until retrained. For each amendment whose `changes`
+    include `instrument-version`, `administration` or `scoring` of an instrument in
+    `affects_instruments`: every pool rating that instrument must list `amendment` among its
+    recertification triggers, and every rater on the roster certified on it before the
+    amendment must hold a later certification dated on or before the amendment's effective
+    date. A rater whose latest certification predates the amendment is reported.
+
+    **Passes**: amendment effective 2027-03-01 changing scoring, rater recertified 2027-02-20.
+
+    **Fails**: amendment effective 2027-03-01 changing scoring, rater's latest certification 2026-08-10.
+    """
+    protocol = plan.protocol
+    if protocol is None:
+        return
+    for amendment in protocol.amendments:
+        changes = set(amendment.changes) & _RATER_CHANGES
+        if not changes:
+            continue
+        for instrument_id in amendment.affects_instruments:
+            pools = [p for p in plan.rater_pools if instrument_id in p.instruments]
+            for pool in pools:
+                triggers = pool.recertification.triggers if pool.recertification else ()
+                if "amendment" not in triggers:
+                    yield Hit(amendment.path + ("effective",),
+                              f"amendment {amendment.id} changes the {', '.join(sorted(changes))} of {instrument_id}, but rater "
+                              f"pool {pool.id} does not recertify after amendments; add 'amendment' to its recertification triggers")
+            for rater in plan.roster:
+                held = [c for c in rater.certifications if c.instrument == instrument_id]
+                if not held:
+                    continue
+                latest = max(held, key=lambda c: c.date)
+                if latest.date < amendment.effective:
+                    yield Hit(latest.path + ("date",),
+                              f"rater {rater.id} was last certified on {instrument_id} on {latest.date.isoformat()}, before "
+                              f"amendment {amendment.id} changed its {', '.join(sorted(changes))} on "
+                              f"{amendment.effective.isoformat()}; recertify by that date",
+                              {"rater": rater.id, "instrument": instrument_id, "amendment": amendment.id,
+                               "amendment_effective": amendment.effective.isoformat(), "last_certified": latest.date.isoformat()})
