@@ -1,0 +1,38 @@
+"""``protolint calendar``: the plan's training, certification, monitoring and SOP review dates."""
+
+from __future__ import annotations
+
+import sys
+
+import click
+
+
+@click.command("calendar")
+@click.argument("plan", metavar="PLAN")
+@click.option("--output", "-o", type=click.Path(dir_okay=False, allow_dash=True),
+              help="iCalendar file to write (default: standard output).")
+def command(plan: str, output: str | None) -> None:
+    """Export every training deadline, certification and recertification date, monitoring
+    round and SOP review date of PLAN as iCalendar (RFC 5545) all-day events.
+
+    Event UIDs are stable: importing a re-export of the same plan updates the events
+    instead of duplicating them.
+
+    \b
+    Examples:
+      protolint calendar demo_protocol/plan.yaml --output out/demo.ics
+      protolint calendar plan.yaml > duties.ics
+    """
+    from protolint.plan import read_plan_file
+    from protolint.render.calendar import render_calendar
+
+    loaded = read_plan_file(plan)
+    data = render_calendar(loaded)
+    if output is None or output == "-":
+        sys.stdout.buffer.write(data)
+        sys.stdout.buffer.flush()
+        return
+    from protolint.atomic import write_atomic
+
+    write_atomic(output, data)
+    click.echo(f"protolint: wrote calendar to {output}", err=True)

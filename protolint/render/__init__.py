@@ -1,0 +1,84 @@
+"""Controlled documents from a plan: rater manual, monitoring checklist and SOP binder.
+
+plan -> typed context (:mod:`.context`) -> Jinja template (``templates/``) -> HTML, Markdown,
+or PDF (:mod:`.pdf`, a thin wrapper around the HTML). iCalendar export is in :mod:`.calendar`.
+Nothing here reads the clock, the network or a file other than the packaged templates.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from typing import Any, Callable
+
+from protolint.plan import LoadedPlan
+
+KINDS = ("manual", "checklist", "binder")
+FORMATS = ("pdf", "html", "markdown")
+PAPERS = ("a4", "letter")
+
+Progress = Callable[[str], None]
+
+
+def build_context(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> Any:
+    """The typed context of document ``kind`` for ``loaded``."""
+    from protolint.render import context
+
+    if kind == "manual":
+        return context.manual_context(loaded, paper)
+    if kind == "checklist":
+        return context.checklist_context(loaded, paper)
+    if kind == "binder":
+        return context.binder_context(loaded, paper, progress)
+    raise ValueError(f"document kind must be one of {', '.join(KINDS)}, got {kind!r}")
+
+
+def _fields(ctx: Any) -> dict[str, Any]:
+    # Shallow: the templates get the top-level fields as names, nested objects stay typed.
+    return {field.name: getattr(ctx, field.name) for field in dataclasses.fields(ctx)}
+
+
+def render_html(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> str:
+    """One self-contained HTML file (inline CSS and SVG, no external resource)."""
+    from protolint.render.environment import make_env
+
+    ctx = build_context(kind, loaded, paper, progress)
+    return make_env().get_template(f"{kind}.html.j2").render(**_fields(ctx))
+
+
+def render_markdown(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> str:
+    """Markdown for wikis and electronic document systems (CommonMark with pipe tables)."""
+    from protolint.render.environment import make_env
+
+    ctx = build_context(kind, loaded, paper, progress)
+    return make_env().get_template(f"{kind}.md.j2").render(**_fields(ctx))
+
+
+def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> bytes:
+    """PDF/A-3b with the plan file embedded; see :mod:`protolint.render.pdf`."""
+    from pathlib import PurePath
+
+    from protolint.render.context import document_date
+    from protolint.render.pdf import PdfSource, html_to_pdf
+
+    html = render_html(kind, loaded, paper, progress)
+    assert loaded.plan is not None  # render_html has refused an invalid plan already
+    day, _ = document_date(loaded.plan)
+    name = PurePath(loaded.source.file).name
+    source = PdfSource(document_date=day, attachment_name=name, attachment_text=loaded.source.text,
+                       attachment_description=f"The measurement plan this document was generated from (SHA-256 {loaded.source.sha256})")
+    if progress:
+        progress("laying out pages")
+    return html_to_pdf(html, source, paper, progress)
+
+
+def render(kind: str, fmt: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> str | bytes:
+    """Document ``kind`` in format ``fmt`` (see ``KINDS`` and ``FORMATS``)."""
+    if paper not in PAPERS:
+        raise ValueError(f"paper must be one of {', '.join(PAPERS)}, got {paper!r}")
+    if fmt == "pdf":
+        return render_pdf(kind, loaded, paper, progress)
+    if fmt == "html":
+        return render_html(kind, loaded, paper, progress)
+    if fmt == "markdown":
+        return render_markdown(kind, loaded, paper, progress)
+    raise ValueError(f"format must be one of {', '.join(FORMATS)}, got {fmt!r}")

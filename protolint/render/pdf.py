@@ -1,0 +1,238 @@
+"""HTML -> archival PDF with WeasyPrint, with every resource fetch locked down.
+
+* **Fetcher.** :class:`PackagedAssetFetcher` serves only the files we ship (the fonts under
+  ``templates/fonts/``) from a fake origin, ``https://assets.invalid/`` (``.invalid`` can never
+  resolve, RFC 2606). Any other URL — ``file:``, ``http:``, ``data:``, a relative path — is
+  refused, and the refusal is fatal: rendering stops with an error instead of producing a
+  document with a hole in it. The same fetcher goes to ``HTML()``, to every ``CSS()`` (which
+  fetches ``@import`` with its own fetcher) and to the attachment.
+* **Fonts.** Bundled DejaVu faces (free licence, shipped beside the templates) are loaded
+  through the fetcher with one ``FontConfiguration``, so a binder looks the same on every
+  machine and every glyph is embedded.
+* **PDF/A-3b.** Archivable (ISO 19005-3, level B: visual appearance preserved), and part 3 is
+  the only PDF/A part that allows an arbitrary embedded file: we attach the exact plan YAML
+  that produced the document (``AFRelationship /Source``), so a filed binder carries its own
+  source. Level A (tagged) would double the size and time for no gain on a printed binder.
+* **Warnings are errors.** Every WARNING or ERROR from the ``weasyprint`` logger (a refused
+  fetch, a missing glyph, a CSS parse error) fails the render, except the one note that the
+  system lacks HarfBuzz-Subset (an environment matter; see ``SOURCE_DATE_EPOCH`` below).
+* **Determinism.** Dates come from the caller (never the clock); ``/ID`` is WeasyPrint's hash
+  of the content; without ``libharfbuzz-subset0`` WeasyPrint subsets fonts with fontTools,
+  which stamps the current time into each subset unless ``SOURCE_DATE_EPOCH`` is set, so it is
+  set from the document date for the duration of the write and restored afterwards.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import logging
+import os
+import threading
+from dataclasses import dataclass
+from datetime import date, datetime, time, timezone
+from functools import lru_cache
+from typing import Callable, Iterator, Mapping
+
+from protolint.errors import ProtolintError
+from protolint.resources import templates_dir
+
+ASSET_ORIGIN = "https://assets.invalid/"
+PDF_VARIANT = "pdf/a-3b"
+PAPER_SIZES = {"a4": "A4", "letter": "letter"}
+
+# Font families the PDF stylesheet declares; print.css names them first in every font stack.
+_FONT_FACES = (
+    ("protolint sans", "normal", "normal", "DejaVuSans.ttf"),
+    ("protolint sans", "bold", "normal", "DejaVuSans-Bold.ttf"),
+    ("protolint sans", "normal", "italic", "DejaVuSans-Oblique.ttf"),
+    ("protolint sans", "bold", "italic", "DejaVuSans-BoldOblique.ttf"),
+    ("protolint mono", "normal", "normal", "DejaVuSansMono.ttf"),
+)
+
+# The only WeasyPrint warning that is not about the document: the machine lacks
+# libharfbuzz-subset0, so fontTools subsets the fonts (made deterministic below).
+_TOLERATED = ("Using fontTools instead of HarfBuzz-Subset",)
+
+_ENV_LOCK = threading.Lock()
+
+
+class PdfRenderError(ProtolintError):
+    """The PDF could not be produced as required (refused fetch, layout warning …)."""
+
+
+@dataclass(frozen=True)
+class PdfSource:
+    """What the PDF needs besides the HTML."""
+
+    document_date: date
+    attachment_name: str | None = None
+    attachment_text: str | None = None
+    attachment_description: str | None = None
+
+
+@lru_cache(maxsize=1)
+def packaged_assets() -> Mapping[str, tuple[bytes, str]]:
+    """URL -> (bytes, media type) for every asset the fetcher may serve."""
+    fonts = templates_dir() / "fonts"
+    assets: dict[str, tuple[bytes, str]] = {}
+    for _family, _weight, _style, file in _FONT_FACES:
+        assets[ASSET_ORIGIN + "fonts/" + file] = ((fonts / file).read_bytes(), "font/ttf")
+    return assets
+
+
+def font_css() -> str:
+    rules = [
+        f'@font-face {{ font-family: "{family}"; font-weight: {weight}; font-style: {style}; '
+        f'src: url("{ASSET_ORIGIN}fonts/{file}"); }}'
+        for family, weight, style, file in _FONT_FACES
+    ]
+    return "\n".join(rules) + "\n"
+
+
+def page_size_css(paper: str) -> str:
+    try:
+        return f"@page {{ size: {PAPER_SIZES[paper]}; }}\n"
+    except KeyError:
+        raise ValueError(f"paper must be one of {', '.join(PAPER_SIZES)}, got {paper!r}") from None
+
+
+def _fetcher_class() -> type:
+    from weasyprint.urls import FatalURLFetchingError, URLFetcher, URLFetcherResponse
+
+    class RefusedURL(FatalURLFetchingError):
+        pass
+
+    class PackagedAssetFetcher(URLFetcher):
+        """Serves the packaged assets and nothing else; every other URL stops the render."""
+
+        def __init__(self, assets: Mapping[str, tuple[bytes, str]]) -> None:
+            # No protocol is allowed to the parent class, so even a call that reached
+            # URLFetcher.fetch could not open anything.
+            super().__init__(timeout=1, allowed_protocols=frozenset(), allow_redirects=False, fail_on_errors=True)
+            self._assets = dict(assets)
+            self.served: list[str] = []
+            self.refused: list[str] = []
+
+        def fetch(self, url: str, headers: Mapping[str, str] | None = None) -> URLFetcherResponse:
+            asset = self._assets.get(url)
+            if asset is None:
+                self.refused.append(url)
+                raise RefusedURL(f"refused to fetch {url[:200]!r}: only packaged assets are loaded")
+            self.served.append(url)
+            body, media_type = asset
+            return URLFetcherResponse(url, body, {"Content-Type": media_type})
+
+    return PackagedAssetFetcher
+
+
+@lru_cache(maxsize=1)
+def fetcher_class() -> type:
+    """The locked fetcher class (built lazily: importing weasyprint is slow)."""
+    return _fetcher_class()
+
+
+def make_fetcher():  # noqa: ANN201 - weasyprint has no type hints
+    return fetcher_class()(packaged_assets())
+
+
+class _Collector(logging.Handler):
+    def __init__(self) -> None:
+        super().__init__(logging.WARNING)
+        self.messages: list[str] = []
+
+    def emit(self, record: logging.LogRecord) -> None:
+        message = record.getMessage()
+        if not message.startswith(_TOLERATED):
+            self.messages.append(message)
+
+
+class _Progress(logging.Handler):
+    def __init__(self, report: Callable[[str], None]) -> None:
+        super().__init__(logging.INFO)
+        self.report = report
+
+    def emit(self, record: logging.LogRecord) -> None:
+        self.report(record.getMessage())
+
+
+@contextlib.contextmanager
+def _weasyprint_logs(progress: Callable[[str], None] | None) -> Iterator[_Collector]:
+    logger = logging.getLogger("weasyprint")
+    progress_logger = logging.getLogger("weasyprint.progress")
+    collector = _Collector()
+    # The progress logger is a child of "weasyprint"; it only logs INFO, which the collector
+    # (WARNING and up) ignores.
+    logger.addHandler(collector)
+    saved_level = logger.level
+    if logger.level == logging.NOTSET or logger.level > logging.WARNING:
+        logger.setLevel(logging.WARNING)
+    progress_handler = None
+    saved_progress_level = progress_logger.level
+    if progress is not None:
+        progress_handler = _Progress(progress)
+        progress_logger.addHandler(progress_handler)
+        progress_logger.setLevel(logging.INFO)
+    try:
+        yield collector
+    finally:
+        logger.removeHandler(collector)
+        logger.setLevel(saved_level)
+        if progress_handler is not None:
+            progress_logger.removeHandler(progress_handler)
+            progress_logger.setLevel(saved_progress_level)
+
+
+@contextlib.contextmanager
+def _source_date_epoch(day: date) -> Iterator[None]:
+    """Set SOURCE_DATE_EPOCH (when unset) for the duration of the block, then restore it."""
+    with _ENV_LOCK:
+        if "SOURCE_DATE_EPOCH" in os.environ:
+            yield
+            return
+        os.environ["SOURCE_DATE_EPOCH"] = str(int(_midnight(day).timestamp()))
+        try:
+            yield
+        finally:
+            os.environ.pop("SOURCE_DATE_EPOCH", None)
+
+
+def _midnight(day: date) -> datetime:
+    return datetime.combine(day, time(0, 0), tzinfo=timezone.utc)
+
+
+def html_to_pdf(html: str, source: PdfSource, paper: str = "a4",
+                progress: Callable[[str], None] | None = None) -> bytes:
+    """Lay out ``html`` and return PDF/A-3b bytes; raise :class:`PdfRenderError` on any problem.
+
+    ``html`` is expected to carry its own stylesheet inline; this adds the packaged fonts and
+    the paper size. The same input gives the same bytes.
+    """
+    from weasyprint import CSS, HTML, Attachment
+    from weasyprint.text.fonts import FontConfiguration
+    from weasyprint.urls import FatalURLFetchingError
+
+    fetcher = make_fetcher()
+    font_config = FontConfiguration()
+    stamp = _midnight(source.document_date)
+    with _weasyprint_logs(progress) as collector, _source_date_epoch(source.document_date):
+        try:
+            stylesheet = CSS(string=font_css() + page_size_css(paper), base_url=ASSET_ORIGIN,
+                             url_fetcher=fetcher, font_config=font_config)
+            attachments = []
+            if source.attachment_text is not None:
+                attachments.append(Attachment(
+                    string=source.attachment_text, base_url=ASSET_ORIGIN, url_fetcher=fetcher,
+                    name=source.attachment_name, description=source.attachment_description,
+                    created=stamp, modified=stamp, relationship="Source"))
+            document = HTML(string=html, base_url=ASSET_ORIGIN, url_fetcher=fetcher).render(
+                stylesheets=[stylesheet], font_config=font_config, pdf_variant=PDF_VARIANT)
+            pdf = document.write_pdf(pdf_variant=PDF_VARIANT, attachments=attachments)
+        except FatalURLFetchingError as error:
+            reason = error.__cause__ or error
+            raise PdfRenderError(f"PDF not written: {reason}") from None
+    if fetcher.refused:
+        raise PdfRenderError(f"PDF not written: refused to fetch {fetcher.refused[0][:200]!r}")
+    if collector.messages:
+        raise PdfRenderError(f"PDF not written: {collector.messages[0]}"
+                             + (f" (and {len(collector.messages) - 1} more)" if len(collector.messages) > 1 else ""))
+    return pdf

@@ -1,0 +1,126 @@
+"""Monitoring rounds per rater pool and site, and the other dated duties of a plan.
+
+Pure functions of the typed plan; the checklist, the binder and the calendar all use them, so a
+date printed on paper is the date in the calendar.
+
+Conventions (in addition to those of :mod:`protolint.plan.timeline`):
+
+* A pool starts rating at a site on the first date any of its endpoints is rated there
+  (the site's own ``first_assessment`` when it has one). A central pool starts on the first
+  date any of its endpoints is rated anywhere, and is scheduled as one unit, "central".
+* Monitoring round *k* (k = 1, 2, …) falls ``k × interval_weeks`` after that start: a round
+  reviews the ratings made since the previous one, so none falls on the first rating day.
+* Ratings stop on the last participant's last rated visit (``study_window(plan).last``).
+  Regular rounds run up to and including that date; when the last regular round falls before
+  it, a close-out round on that date reviews the ratings made since, so no rating is left
+  outside a round.
+* A pool without a monitoring interval has no rounds.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from datetime import date, timedelta
+
+from protolint.plan.model import Plan, RaterPool
+from protolint.plan.timeline import endpoint_first_assessment, pool_sites, study_window
+
+CENTRAL = "central"
+"""The ``site`` of a round or duty that belongs to a central pool."""
+
+
+@dataclass(frozen=True)
+class MonitoringRound:
+    pool: str
+    site: str
+    number: int
+    due: date
+    covers_from: date
+    """First rating day the round reviews (the day after the previous round, or the start)."""
+    close_out: bool = False
+
+
+@dataclass(frozen=True)
+class PoolSiteSpan:
+    """When a pool rates at one site (or centrally)."""
+
+    pool: str
+    site: str
+    first_rating: date
+    last_rating: date
+
+
+def pool_spans(plan: Plan, pool: RaterPool) -> tuple[PoolSiteSpan, ...]:
+    """The rating span of ``pool`` at each site it serves (one span for a central pool)."""
+    endpoints = [endpoint for endpoint in plan.endpoints if endpoint.rater_pool == pool.id]
+    if not endpoints:
+        return ()
+    last = study_window(plan).last
+    sites = pool_sites(plan, pool.id)
+    if not sites:
+        first = min(endpoint_first_assessment(plan, endpoint) for endpoint in endpoints)
+        return (PoolSiteSpan(pool.id, CENTRAL, first, last),)
+    spans = []
+    for site in sites:
+        first = min(endpoint_first_assessment(plan, endpoint, site) for endpoint in endpoints)
+        spans.append(PoolSiteSpan(pool.id, site, first, last))
+    return tuple(spans)
+
+
+def rounds_between(pool: str, site: str, start: date, end: date, interval_weeks: int) -> tuple[MonitoringRound, ...]:
+    """Rounds every ``interval_weeks`` after ``start`` up to ``end``, plus a close-out round.
+
+    >>> [r.due.isoformat() for r in rounds_between("P", "S", date(2026, 9, 1), date(2026, 11, 24), 5)]
+    ['2026-10-06', '2026-11-10', '2026-11-24']
+    """
+    if interval_weeks <= 0:
+        raise ValueError(f"interval_weeks must be a positive number of weeks, got {interval_weeks}")
+    rounds: list[MonitoringRound] = []
+    step = timedelta(weeks=interval_weeks)
+    due = start + step
+    covers_from = start
+    while due <= end:
+        rounds.append(MonitoringRound(pool, site, len(rounds) + 1, due, covers_from))
+        covers_from = due + timedelta(days=1)
+        due += step
+    if covers_from <= end and (not rounds or rounds[-1].due < end):
+        rounds.append(MonitoringRound(pool, site, len(rounds) + 1, end, covers_from, close_out=True))
+    return tuple(rounds)
+
+
+def monitoring_rounds(plan: Plan, pool: RaterPool) -> dict[str, tuple[MonitoringRound, ...]]:
+    """Rounds of ``pool`` keyed by site id (``CENTRAL`` for a central pool), in site order."""
+    interval = pool.monitoring.interval_weeks if pool.monitoring else None
+    if not interval:
+        return {}
+    return {span.site: rounds_between(pool.id, span.site, span.first_rating, span.last_rating, interval)
+            for span in pool_spans(plan, pool)}
+
+
+def add_months(day: date, months: int) -> date:
+    """``day`` plus whole calendar months, clamped to the month's last day (31 Jan + 1 = 28/29 Feb)."""
+    month_index = day.month - 1 + months
+    year, month = day.year + month_index // 12, month_index % 12 + 1
+    for candidate in (day.day, 30, 29, 28):
+        try:
+            return date(year, month, min(day.day, candidate))
+        except ValueError:
+            continue
+    raise AssertionError("unreachable: every month has a 28th")  # pragma: no cover
+
+
+def recertification_dates(certified: date, interval_months: int, until: date) -> tuple[date, ...]:
+    """Dates a certification made on ``certified`` falls due again, up to ``until``."""
+    if interval_months <= 0:
+        raise ValueError(f"interval_months must be a positive number of months, got {interval_months}")
+    dates = []
+    k = 1
+    while (due := add_months(certified, k * interval_months)) <= until:
+        dates.append(due)
+        k += 1
+    return tuple(dates)
+
+
+def training_deadline(first_rating: date, days_before: int | None) -> date:
+    """Latest day initial training must be complete (the day before rating when unstated)."""
+    return first_rating - timedelta(days=days_before if days_before else 1)
