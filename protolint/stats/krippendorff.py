@@ -65,7 +65,16 @@ def _units(data: NDArray[np.float64]) -> _Units:
     if x.shape[0] == 0:
         raise ValueError("ratings has no unit (subject) with two or more values; alpha is undefined")
     mask = ~np.isnan(x)
-    values, inverse = np.unique(x[mask], return_inverse=True)
+    pooled = x[mask]
+    low, high = float(pooled.min()), float(pooled.max())
+    if high - low < 100_000 and np.array_equal(pooled, np.round(pooled)):
+        # Whole-number ratings (the usual case): code by offset, avoiding a sort of every value.
+        offsets = (pooled - low).astype(np.intp)
+        used = np.bincount(offsets) > 0
+        values = low + np.flatnonzero(used).astype(float)
+        inverse = (np.cumsum(used) - 1)[offsets]
+    else:
+        values, inverse = np.unique(pooled, return_inverse=True)
     rows = np.nonzero(mask)[0]
     v = values.size
     counts = np.bincount(rows * v + inverse, minlength=x.shape[0] * v).reshape(x.shape[0], v).astype(float)
@@ -113,7 +122,7 @@ def _alpha_matrix(
     weights: NDArray[np.float64], counts: NDArray[np.float64], m: NDArray[np.float64], delta: NDArray[np.float64]
 ) -> NDArray[np.float64]:
     """Alpha from the coincidence form with a fixed metric matrix (nominal, ratio)."""
-    d_unit = np.einsum("uc,cd,ud->u", counts, delta, counts) / (m - 1.0)
+    d_unit = ((counts @ delta) * counts).sum(axis=1) / (m - 1.0)
     observed = weights @ d_unit
     n = weights @ m
     n_c = weights @ counts  # B x V
@@ -187,13 +196,11 @@ def krippendorff_alpha(
     if level == "ratio" and (arr[~np.isnan(arr)] < 0).any():
         raise ValueError("ratings must not contain negative values at the ratio level")
     units = _units(arr)
-    one = np.ones((1, units.m.size))
-    value = float(_alpha(units, level, one)[0])
-    if not np.isfinite(value):
-        raise ValueError("ratings has no variation among pairable values; alpha is undefined")
-    n_values = float(units.m.sum())
-    # D_o and D_e for the report, from the same pieces (alpha = 1 - D_o / D_e).
     d_o, d_e = _disagreements(units, level)
+    if not d_e > 0.0:
+        raise ValueError("ratings has no variation among pairable values; alpha is undefined")
+    value = 1.0 - d_o / d_e
+    n_values = float(units.m.sum())
     ci: ConfidenceInterval | None = None
     if boot > 0:
         rng = np.random.default_rng(rng_seed)
@@ -221,13 +228,24 @@ def krippendorff_alpha(
 
 
 def _disagreements(units: _Units, level: str) -> tuple[float, float]:
+    """Observed and expected disagreement D_o and D_e of the pairable values."""
     n_c = units.counts.sum(axis=0)
     n = float(units.m.sum())
+    m = units.m
     if level in ("interval", "ordinal"):
+        # Squared differences of values (interval) or of midranks (ordinal): pair sums from the
+        # per-unit moments, linear in the data (see _alpha_moments).
         scores = units.values if level == "interval" else _midranks(n_c)
-        delta = np.square(scores[:, None] - scores[None, :])
+        s1 = units.counts @ scores
+        s2 = units.counts @ np.square(scores)
+        observed = float((2.0 * (m * s2 - np.square(s1)) / (m - 1.0)).sum())
+        expected = 2.0 * (n * float(s2.sum()) - float(s1.sum()) ** 2)
+    elif level == "nominal":
+        # Ordered pairs that disagree within a unit: m^2 - sum_c n_uc^2.
+        observed = float(((np.square(m) - np.square(units.counts).sum(axis=1)) / (m - 1.0)).sum())
+        expected = n**2 - float(np.square(n_c).sum())
     else:
         delta = _delta_matrix(units.values, level)
-    observed = float(np.einsum("uc,cd,ud->", units.counts / (units.m - 1.0)[:, None], delta, units.counts)) / n
-    expected = float(n_c @ delta @ n_c) / (n * (n - 1.0))
-    return observed, expected
+        observed = float((((units.counts @ delta) * units.counts).sum(axis=1) / (m - 1.0)).sum())
+        expected = float(n_c @ delta @ n_c)
+    return observed / n, expected / (n * (n - 1.0))

@@ -86,3 +86,12 @@ def test_bootstrap_interval_narrows_with_more_units() -> None:
 def test_errors(data: np.ndarray, kwargs: dict[str, object], message: str) -> None:
     with pytest.raises(ValueError, match=message):
         krippendorff_alpha(data, **kwargs)  # type: ignore[arg-type]
+
+
+def test_negative_and_offset_whole_numbers_match_package() -> None:
+    # Whole-number ratings take a coding shortcut; check it on negative and large-offset values.
+    for shift in (-3.0, 1_000_000.0):
+        x = random_ratings(46, 50, 4, 7, 0.2) + shift
+        for level in ("nominal", "ordinal", "interval"):
+            expected = krippendorff.alpha(reliability_data=x.T, level_of_measurement=level)
+            assert krippendorff_alpha(x, level, n_boot=0).value == pytest.approx(expected, abs=1e-9)
