@@ -212,6 +212,20 @@ def render_text(report: dict[str, Any]) -> str:
     return "\n".join(lines) + "\n"
 
 
+class OneLineCommand(click.Command):
+    """A click command whose usage errors are one line on stderr with exit code 2.
+
+    click's own usage errors print the usage block as well; scripts and CI logs are easier
+    to read with just ``protolint: <message>``.
+    """
+
+    def parse_args(self, ctx: click.Context, args: list[str]) -> list[str]:
+        try:
+            return super().parse_args(ctx, args)
+        except click.UsageError as error:
+            raise ProtolintError(f"{self.name}: {error.format_message()}") from None
+
+
 def emit(text: str, output: str | None, what: str) -> None:
     """Write ``text`` to stdout, or atomically to ``output`` with a note on stderr."""
     if output:
@@ -223,7 +237,7 @@ def emit(text: str, output: str | None, what: str) -> None:
         click.echo(text, nl=False)
 
 
-@click.command("agreement")
+@click.command("agreement", cls=OneLineCommand)
 @click.argument("ratings", metavar="RATINGS.csv", type=click.Path(dir_okay=False))
 @click.option("--scale", type=click.Choice(SCALES), default="interval", show_default=True,
               help="Level of measurement of the ratings; selects the coefficients.")

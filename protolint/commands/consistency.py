@@ -8,6 +8,7 @@ from typing import Any
 import click
 
 from protolint import CAUTION
+from protolint.commands.agreement import OneLineCommand
 from protolint.errors import ProtolintError
 
 
@@ -83,7 +84,7 @@ def render_text(report: dict[str, Any]) -> str:
     return "\n".join(lines) + "\n"
 
 
-@click.command("consistency")
+@click.command("consistency", cls=OneLineCommand)
 @click.argument("items", metavar="ITEMS.csv", type=click.Path(dir_okay=False))
 @click.option("--confidence", type=float, default=0.95, show_default=True, help="Confidence level of the interval.")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text", show_default=True, help="Output format.")

@@ -83,7 +83,7 @@ def sides(value: object) -> int:
     """1 (one-sided) or 2 (two-sided)."""
     if isinstance(value, bool) or value not in (1, 2):
         raise ValueError(f"sides must be 1 or 2, got {value!r}")
-    return int(value)  # type: ignore[call-overload]
+    return 1 if value == 1 else 2
 
 
 def matrix(name: str, data: ArrayLike, *, min_rows: int = 2, min_cols: int = 2) -> NDArray[np.float64]:
@@ -169,4 +169,5 @@ def agreement_weights(values: NDArray[np.float64], kind: str) -> NDArray[np.floa
     if kind == "unweighted" or q < 2:
         return np.eye(q)
     diff = np.abs(values[:, None] - values[None, :]) / (values[-1] - values[0])
-    return 1.0 - diff if kind == "linear" else 1.0 - diff**2
+    weights = 1.0 - diff if kind == "linear" else 1.0 - diff**2
+    return np.asarray(weights, dtype=float)

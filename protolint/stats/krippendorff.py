@@ -106,7 +106,7 @@ def _alpha_moments(
     tot2 = np.einsum("bu,ub->b", weights, s2)
     expected = 2.0 * (n * tot2 - np.square(tot1))
     with np.errstate(divide="ignore", invalid="ignore"):
-        return 1.0 - (n - 1.0) * observed / expected
+        return np.asarray(1.0 - (n - 1.0) * observed / expected, dtype=float)
 
 
 def _delta_matrix(values: NDArray[np.float64], level: str) -> NDArray[np.float64]:
@@ -128,7 +128,7 @@ def _alpha_matrix(
     n_c = weights @ counts  # B x V
     expected = np.einsum("bc,cd,bd->b", n_c, delta, n_c)
     with np.errstate(divide="ignore", invalid="ignore"):
-        return 1.0 - (n - 1.0) * observed / expected
+        return np.asarray(1.0 - (n - 1.0) * observed / expected, dtype=float)
 
 
 def _alpha(units: _Units, level: str, weights: NDArray[np.float64]) -> NDArray[np.float64]:

@@ -156,7 +156,11 @@ def test_missing_file_and_bad_options() -> None:
     code, _, err = run(str(SHROUT_FLEISS), "--confidence", "1.5")
     assert code == 2 and "--confidence must be between 0 and 1" in err
     code, _, err = run(str(SHROUT_FLEISS), "--scale", "ratio")
-    assert code == 2
+    # click's usage errors are reduced to one line as well.
+    assert code == 2 and err.startswith("protolint: agreement: Invalid value for '--scale'")
+    assert len(err.strip().splitlines()) == 1
+    code, _, err = run()
+    assert code == 2 and err.strip() == "protolint: agreement: Missing argument 'RATINGS.csv'."
 
 
 def test_nominal_text_labels_are_accepted(tmp_path: Path) -> None:

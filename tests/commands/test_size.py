@@ -146,5 +146,6 @@ def test_subprocess_and_output_file(tmp_path: Path) -> None:
     assert json.loads(target.read_text())["n_total"] == 160
     bad = subprocess.run([sys.executable, "-m", "protolint", "size", "--effect-size", "abc"], capture_output=True, text=True, env=env)
     assert bad.returncode == 2 and "Traceback" not in bad.stderr
+    assert bad.stderr.strip() == "protolint: size: Invalid value for '--effect-size': 'abc' is not a valid float."
     helped = subprocess.run([sys.executable, "-m", "protolint", "size", "--help"], capture_output=True, text=True, env=env)
     assert helped.returncode == 0 and "protolint size --effect-size 0.5 --reliability 0.8" in helped.stdout
