@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 from collections.abc import Callable
 from typing import TYPE_CHECKING, Any
 
@@ -100,8 +101,6 @@ def analyse(table: RatingTable, scale: str, confidence: float) -> dict[str, Any]
         if n_raters != 2:
             for name in kappa_names:
                 skipped[name] = f"Cohen's kappa needs exactly 2 raters, the file has {n_raters} (see fleiss_kappa)"
-        elif table.labels is not None and scale == "ordinal":
-            skipped["cohen_kappa"] = "text categories have no order"
         else:
             for name, weights in zip(kappa_names, ("unweighted", "linear", "quadratic")):
                 def cohen(weights: str = weights) -> dict[str, Any]:
@@ -212,6 +211,22 @@ def render_text(report: dict[str, Any]) -> str:
     return "\n".join(lines) + "\n"
 
 
+def _finite(value: Any) -> Any:
+    # JSON has no NaN or Infinity; an undefined number (a degenerate interval) becomes null.
+    if isinstance(value, float):
+        return value if math.isfinite(value) else None
+    if isinstance(value, dict):
+        return {key: _finite(item) for key, item in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_finite(item) for item in value]
+    return value
+
+
+def to_json(report: dict[str, Any]) -> str:
+    """The report as indented JSON; non-finite numbers are written as null."""
+    return json.dumps(_finite(report), indent=2, allow_nan=False) + "\n"
+
+
 class OneLineCommand(click.Command):
     """A click command whose usage errors are one line on stderr with exit code 2.
 
@@ -262,8 +277,5 @@ def command(ratings: str, scale: str, confidence: float, fmt: str, output: str |
         raise ProtolintError(f"--confidence must be between 0 and 1, got {confidence}")
     table = read_table(ratings, numeric=scale != "nominal", kind="rater", scale=scale)
     report = analyse(table, scale, confidence)
-    if fmt == "json":
-        text = json.dumps(report, indent=2, allow_nan=False) + "\n"
-    else:
-        text = render_text(report)
+    text = to_json(report) if fmt == "json" else render_text(report)
     emit(text, output, f"{fmt} agreement report")

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from typing import Any
 
 import click
@@ -99,10 +98,10 @@ def command(items: str, confidence: float, fmt: str, output: str | None) -> None
     Example:
       protolint consistency severity_items.csv --format json --output alpha.json
     """
-    from protolint.commands.agreement import emit
+    from protolint.commands.agreement import emit, to_json
 
     if not 0.0 < confidence < 1.0:
         raise ProtolintError(f"--confidence must be between 0 and 1, got {confidence}")
     report = analyse(items, confidence)
-    text = json.dumps(report, indent=2, allow_nan=False) + "\n" if fmt == "json" else render_text(report)
+    text = to_json(report) if fmt == "json" else render_text(report)
     emit(text, output, f"{fmt} consistency report")

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass
 from typing import Any
 
@@ -236,7 +235,7 @@ def command(
       protolint size --effect-size 0.3 --design correlation --reliability 0.7 --reliability-other 0.9
       protolint size --effect-size 0.5 --curve --format json
     """
-    from protolint.commands.agreement import emit
+    from protolint.commands.agreement import emit, to_json
 
     if effect_size is not None and (difference is not None or sd is not None):
         raise ProtolintError("give either --effect-size or --difference with --sd, not both")
@@ -275,5 +274,5 @@ def command(
         raters=n_raters, occasions=n_occasions, convention=convention or "ctt", reliability_other=reliability_other,
     )
     report = compute(req, curve)
-    text = json.dumps(report, indent=2, allow_nan=False) + "\n" if fmt == "json" else render_text(report)
+    text = to_json(report) if fmt == "json" else render_text(report)
     emit(text, output, f"{fmt} sample-size report")
