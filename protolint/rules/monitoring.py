@@ -188,7 +188,8 @@ def no_duplicate_ratings(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     Certification shows reliability on training material; only duplicate ratings of trial
     assessments (co-rating, blind review of recordings, central re-rating) show what the trial
-    achieved, so that it can be reported with the results.
+    achieved, so that it can be reported with the results. A stated `duplicate_fraction` below
+    `min_duplicate_fraction` is reported too.
 
     **Passes**: `method: [central-re-rating]` with `duplicate_fraction: 0.1`.
 

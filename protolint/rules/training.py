@@ -77,8 +77,8 @@ def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     certification cases: an ICC between two score sets (k = 2) from n cases. Its expected
     95 % interval width is worked out with Bonett's (2002) formula at the expected agreement
     (the pool's `expected_icc`, else its ICC pass minimum, else `assumed_icc`), together with
-    the number of cases that would reach `max_ci_width`. With few cases a rater passes or
-    fails largely by chance.
+    the number of cases that would reach `max_ci_width`; fewer than `min_cases` cases are
+    reported whatever the width. With few cases a rater passes or fails largely by chance.
 
     **Passes**: 40 cases at an expected ICC of 0.80 (width ≈ 0.23).
 
