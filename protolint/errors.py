@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import IO, Any
+
 import click
 
 
@@ -10,7 +12,7 @@ class ProtolintError(click.ClickException):
 
     exit_code = 2
 
-    def show(self, file=None) -> None:  # noqa: D102 - click's signature
+    def show(self, file: IO[Any] | None = None) -> None:
         click.echo(f"protolint: {self.format_message()}", err=True)
 
 
@@ -33,6 +35,6 @@ class LocatedError(ProtolintError):
                 where += f":{column}"
         super().__init__(f"{where}: {message}")
 
-    def show(self, file=None) -> None:  # noqa: D102
+    def show(self, file: IO[Any] | None = None) -> None:
         # The location comes first so editors and CI logs can jump to it.
         click.echo(self.format_message(), err=True)

@@ -7,7 +7,7 @@ from typing import Any
 import click
 
 from protolint import CAUTION
-from protolint.commands.agreement import OneLineCommand
+from protolint.commands._shared import OneLineCommand
 from protolint.errors import ProtolintError
 
 
@@ -98,7 +98,7 @@ def command(items: str, confidence: float, fmt: str, output: str | None) -> None
     Example:
       protolint consistency severity_items.csv --format json --output alpha.json
     """
-    from protolint.commands.agreement import emit, to_json
+    from protolint.commands._shared import emit, to_json
 
     if not 0.0 < confidence < 1.0:
         raise ProtolintError(f"--confidence must be between 0 and 1, got {confidence}")

@@ -8,7 +8,7 @@ from typing import Any
 import click
 
 from protolint import CAUTION
-from protolint.commands.agreement import OneLineCommand
+from protolint.commands._shared import OneLineCommand
 from protolint.errors import ProtolintError
 
 # --curve: reliabilities 0.40, 0.45, ..., 1.00.
@@ -235,7 +235,7 @@ def command(
       protolint size --effect-size 0.3 --design correlation --reliability 0.7 --reliability-other 0.9
       protolint size --effect-size 0.5 --curve --format json
     """
-    from protolint.commands.agreement import emit, to_json
+    from protolint.commands._shared import emit, to_json
 
     if effect_size is not None and (difference is not None or sd is not None):
         raise ProtolintError("give either --effect-size or --difference with --sd, not both")
