@@ -450,7 +450,7 @@ def rater_type_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                 theirs = evidence.rater_profession
                 if theirs and q.profession and not any(theirs.lower() in p.lower() or p.lower() in theirs.lower() for p in q.profession):
                     yield Hit(evidence.path + ("rater_profession",),
-                              f"evidence {evidence.id} was rated by {theirs}s, but pool {pool.id} accepts "
+                              f"evidence {evidence.id} was rated by raters described as {theirs!r}, but pool {pool.id} accepts "
                               f"{', '.join(q.profession)}; show the evidence holds for the trial's raters")
                     break
                 years = q.min_experience_years
