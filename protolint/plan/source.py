@@ -236,9 +236,13 @@ class _Converter:
         if path in self.spans:  # an alias expanded again: keep the first place it was written
             return
         key = key or value
+        # A block mapping or list starts on the line after its key; a finding about the whole
+        # section belongs on the key's line, not on its first entry.
+        block = isinstance(value, yaml.CollectionNode) and not value.flow_style
+        start = key.start_mark if block else value.start_mark
         self.spans[path] = Span(
             key.start_mark.line + 1, key.start_mark.column + 1,
-            value.start_mark.line + 1, value.start_mark.column + 1,
+            start.line + 1, start.column + 1,
             value.end_mark.line + 1, value.end_mark.column + 1,
         )
 
