@@ -14,7 +14,7 @@ import dataclasses
 import types
 import typing
 from dataclasses import dataclass
-from datetime import date
+from datetime import date as Date
 from functools import lru_cache
 from typing import Any, TypeVar
 
@@ -27,7 +27,7 @@ RATER_KINDS = frozenset({"clinician-rated", "observer-rated", "performance"})
 class Amendment:
     path: Path
     id: str
-    effective: date
+    effective: Date
     version: str | None = None
     summary: str | None = None
     affects_instruments: tuple[str, ...] = ()
@@ -39,7 +39,7 @@ class Protocol:
     path: Path
     id: str
     version: str
-    date: date
+    date: Date
     amendments: tuple[Amendment, ...] = ()
 
 
@@ -69,7 +69,7 @@ class Site:
     id: str
     name: str
     country: str | None = None
-    first_assessment: date | None = None
+    first_assessment: Date | None = None
 
 
 @dataclass(frozen=True)
@@ -79,7 +79,7 @@ class Study:
     title: str
     design: str
     arms: tuple[Arm, ...]
-    first_assessment: date
+    first_assessment: Date
     enrolment_weeks: int
     treatment_weeks: int
     sites: tuple[Site, ...]
@@ -292,9 +292,9 @@ class RaterPool:
 class RaterCertification:
     path: Path
     instrument: str
-    date: date
+    date: Date
     version: str | None = None
-    expires: date | None = None
+    expires: Date | None = None
 
 
 @dataclass(frozen=True)
@@ -305,7 +305,7 @@ class Rater:
     site: str | None = None
     profession: str | None = None
     experience_years: float | None = None
-    first_rating: date | None = None
+    first_rating: Date | None = None
     certifications: tuple[RaterCertification, ...] = ()
 
 
@@ -338,7 +338,7 @@ class SampleSize:
 class Approval:
     path: Path
     name: str
-    date: date
+    date: Date
     role: str | None = None
     meaning: str | None = None
 
@@ -354,7 +354,7 @@ class Coverage:
 class Revision:
     path: Path
     version: str
-    date: date
+    date: Date
     summary: str | None = None
 
 
@@ -364,9 +364,9 @@ class Sop:
     id: str
     title: str
     version: str
-    effective: date
+    effective: Date
     status: str | None = None
-    review_due: date | None = None
+    review_due: Date | None = None
     owner: str | None = None
     approvals: tuple[Approval, ...] = ()
     covers: Coverage | None = None
@@ -388,16 +388,16 @@ class Waiver:
     rule: str
     reason: str
     approved_by: str
-    date: date
+    date: Date
     target: str | None = None
-    expires: date | None = None
+    expires: Date | None = None
 
 
 @dataclass(frozen=True)
 class Plan:
     path: Path
     format_version: int
-    plan_date: date
+    plan_date: Date
     study: Study
     instruments: tuple[Instrument, ...]
     endpoints: tuple[Endpoint, ...]
@@ -435,11 +435,11 @@ def build_plan(data: dict[str, Any]) -> Plan:
 
 
 @lru_cache(maxsize=None)
-def _hints(cls: type) -> dict[str, Any]:
+def _hints(cls: Any) -> dict[str, Any]:
     return typing.get_type_hints(cls)
 
 
-def _build(cls: type[T], data: dict[str, Any], path: Path) -> T:
+def _build(cls: Any, data: dict[str, Any], path: Path) -> Any:
     hints = _hints(cls)
     values: dict[str, Any] = {"path": path}
     for field in dataclasses.fields(cls):  # type: ignore[arg-type]
@@ -459,8 +459,8 @@ def _convert(hint: Any, raw: Any, path: Path) -> Any:
     if origin is tuple:
         item_hint = typing.get_args(hint)[0]
         return tuple(_convert(item_hint, item, path + (index,)) for index, item in enumerate(raw))
-    if hint is date:
-        return date.fromisoformat(raw)
+    if hint is Date:
+        return Date.fromisoformat(raw)
     if hint is float:
         return float(raw)
     if dataclasses.is_dataclass(hint):

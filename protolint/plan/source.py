@@ -290,9 +290,10 @@ class _Converter:
         if tag == _PLAIN:
             return self.typed_plain(node, value)
         # An explicit core tag: the text must fit it.
-        typed = self.typed_plain(node, value)
-        expected = {"int": int, "float": (int, float), "bool": bool, "null": type(None)}[tag[len(_CORE):]]
-        if isinstance(typed, bool) and expected is not bool or not isinstance(typed, expected):
+        typed: Any = self.typed_plain(node, value)
+        expected: dict[str, tuple[type, ...]] = {"int": (int,), "float": (int, float), "bool": (bool,), "null": (type(None),)}
+        kinds = expected[tag[len(_CORE):]]
+        if isinstance(typed, bool) and bool not in kinds or not isinstance(typed, kinds):
             raise self.fail(node, f"{value!r} is not a valid {tag[len(_CORE):]}")
         return float(typed) if tag.endswith("float") else typed
 

@@ -107,8 +107,8 @@ def _testsuite(plan: PlanResult, rules: Sequence[RuleMeta], version: str) -> tup
             counts["failures"] += 1
         elif outcome == "skipped":
             counts["skipped"] += 1
-    for key, value in counts.items():
-        suite.set(key, str(value))
+    for key, count in counts.items():
+        suite.set(key, str(count))
     suite.set("file", xml_safe(plan.file))
     return suite, counts
 

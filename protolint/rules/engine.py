@@ -21,8 +21,8 @@ def check_loaded(loaded: LoadedPlan, policy: Policy = DEFAULT_POLICY, as_of: dat
     source = loaded.source
     builtin_ids = tuple(r.meta.id for r in rules if r.check is None and policy.enabled(r.meta.id))
     if loaded.plan is None:
-        findings = [f for f in loaded.problems if policy.enabled(f.rule)]
-        return PlanResult(file=source.file, sha256=source.sha256, findings=tuple(sorted(findings, key=Finding.sort_key)),
+        problems = [f for f in loaded.problems if policy.enabled(f.rule)]
+        return PlanResult(file=source.file, sha256=source.sha256, findings=tuple(sorted(problems, key=Finding.sort_key)),
                           rules_run=tuple(i for i in builtin_ids if i.startswith("schema/")),
                           as_of=as_of.isoformat() if as_of else None)
 
@@ -67,8 +67,8 @@ def apply_waivers(findings: list[Finding], plan: Plan, source: LoadedSource, as_
 
     result: list[Finding] = []
     used: set[int] = set()
-    expired = [w for w in plan.waivers if w.expires is not None and w.expires < as_of]
-    in_force = [w for w in plan.waivers if w not in expired]
+    expired = [(w, w.expires) for w in plan.waivers if w.expires is not None and w.expires < as_of]
+    in_force = [w for w in plan.waivers if w.expires is None or w.expires >= as_of]
     for finding in findings:
         waiver = next((w for w in in_force if finding.rule in waivable and _matches(w, finding)), None)
         if waiver is None:
@@ -87,11 +87,11 @@ def apply_waivers(findings: list[Finding], plan: Plan, source: LoadedSource, as_
         return Finding(rule=rule, severity=policy.severity(get_rule(rule).meta), message=message, file=source.file,
                        location=locate(source.source_map, waiver.path), pointer=pointer_from_path(waiver.path), facts=facts)
 
-    for waiver in expired:
+    for waiver, expiry in expired:
         extra = waiver_finding("waivers/expired", waiver,
-                               f"the waiver for {waiver.rule} expired on {waiver.expires.isoformat()} (checked as of {as_of.isoformat()}); "
+                               f"the waiver for {waiver.rule} expired on {expiry.isoformat()} (checked as of {as_of.isoformat()}); "
                                "what it covered is reported again",
-                               {"rule": waiver.rule, "expires": waiver.expires.isoformat(), "as_of": as_of.isoformat()})
+                               {"rule": waiver.rule, "expires": expiry.isoformat(), "as_of": as_of.isoformat()})
         if extra:
             result.append(extra)
     for waiver in in_force:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Iterator
 
-from protolint.plan.model import Plan
+from protolint.plan.model import Plan, RaterCertification
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 
@@ -146,14 +146,14 @@ def certification_expired(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     for rater in plan.roster:
         pool = plan.pool(rater.pool)
         months = pool.recertification.interval_months if pool.recertification else None
-        latest: dict[str, object] = {}
+        latest: dict[str, RaterCertification] = {}
         for cert in rater.certifications:
-            if cert.instrument not in latest or cert.date > latest[cert.instrument].date:  # type: ignore[attr-defined]
+            if cert.instrument not in latest or cert.date > latest[cert.instrument].date:
                 latest[cert.instrument] = cert
         for cert in latest.values():
-            expires = cert.expires or (_add_months(cert.date, months) if months else None)  # type: ignore[attr-defined]
+            expires = cert.expires or (_add_months(cert.date, months) if months else None)
             if expires is not None and expires <= ctx.as_of:
-                yield Hit(cert.path + ("date",),  # type: ignore[attr-defined]
+                yield Hit(cert.path + ("date",),
                           f"rater {rater.id}'s certification on {cert.instrument} from {cert.date.isoformat()} expired on "  # type: ignore[attr-defined]
                           f"{expires.isoformat()} (checked as of {ctx.as_of.isoformat()}); recertify before the next rating",
                           {"rater": rater.id, "instrument": cert.instrument, "expires": expires.isoformat(),  # type: ignore[attr-defined]
