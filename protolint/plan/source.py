@@ -45,6 +45,10 @@ _INT16 = re.compile(r"^0x[0-9a-fA-F]+$")
 _FLOAT = re.compile(r"^[-+]?(?:\.[0-9]+|(?:0|[1-9][0-9]*)(?:\.[0-9]*)?)(?:[eE][-+]?[0-9]+)?$")
 _SPECIAL_FLOAT = re.compile(r"^(?:[-+]?\.(?:inf|Inf|INF)|\.(?:nan|NaN|NAN))$")
 
+# An anchor property (&name) follows a separator or a flow indicator; '&' inside words or
+# followed by a space ("R&D", "Q & A") is text. A false match only costs the expansion check.
+_ANCHOR = re.compile(r"(?:^|[\s\[\]{},])&[^\s\[\]{},]", re.MULTILINE)
+
 _BOMS = {
     b"\xff\xfe\x00\x00": "UTF-32",
     b"\x00\x00\xfe\xff": "UTF-32",
@@ -124,7 +128,7 @@ def load_source(raw: bytes, file: str) -> LoadedSource:
         raise LocatedError(file, 1, 1, f"nesting is deeper than {MAX_DEPTH} levels") from None
     if root is None:
         raise LocatedError(file, 1, 1, "the file is empty; a plan is a YAML mapping of keys to values")
-    if "&" in text:  # aliases need an anchor; without one no node can be shared
+    if _ANCHOR.search(text):  # aliases need an anchor; without one no node can be shared
         _check_expansion(root, file)
     converter = _Converter(file)
     data = converter.convert(root, (), depth=0, ancestors=())
