@@ -367,6 +367,18 @@ class PoolChecklist:
     raters: tuple[str, ...]
     rounds: tuple[RoundRow, ...]
 
+    @property
+    def round_blocks(self) -> tuple[tuple[RoundRow, ...], ...]:
+        """Rounds in blocks of at most ``ROUNDS_PER_TABLE``, one table each.
+
+        WeasyPrint's time to lay out a table grows with the number of pages it spans, so a
+        two-year weekly schedule as one table takes minutes; page-sized tables keep it linear.
+        """
+        return tuple(self.rounds[i:i + ROUNDS_PER_TABLE] for i in range(0, len(self.rounds), ROUNDS_PER_TABLE))
+
+
+ROUNDS_PER_TABLE = 26
+
 
 @dataclass(frozen=True)
 class SiteChecklist:
