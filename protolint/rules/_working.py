@@ -1,20 +1,28 @@
-"""Small closed-form formulas the computed rules show their working with.
+"""The formulas the computed rules show their working with.
 
-Why not call ``protolint.stats`` directly: importing any part of that package loads numpy
-(its ``__init__`` imports every method), and its exact sample-size solver loads
-``scipy.special`` and ``scipy.optimize``. ``protolint check`` runs in pre-commit hooks and
-must not pay for that, so the rules use these standard-library versions. Each function is
-checked in ``tests/rules/test_computed.py`` against hand-worked values, published values and
-the statistics core itself on the same inputs.
+Spearman–Brown, Bonett's interval width and the measurement-error formulas come from the
+statistics core's closed-form modules, which load neither numpy nor scipy (see
+``protolint/stats/__init__.py``); the adapters here only decide what a rule does at the
+edges of their domains. The two-group sample size is the one formula computed here: the
+core's exact noncentral-t solver needs scipy, which ``protolint check`` must not load in a
+pre-commit hook, so rules use the normal approximation with Guenther's correction, checked
+in ``tests/rules/test_computed.py`` against published values and against the core itself.
 
 Every result is a planning aid; the messages say so.
 """
 
 from __future__ import annotations
 
+import importlib
 import math
 from dataclasses import dataclass
 from statistics import NormalDist
+
+# By module path: ``protolint.stats.spearman_brown`` is also the name of a function that the
+# package exports, so attribute-style imports could return the function.
+_error = importlib.import_module("protolint.stats.measurement_error")
+_sb = importlib.import_module("protolint.stats.spearman_brown")
+_study = importlib.import_module("protolint.stats.study_size")
 
 PLANNING_AID = "a planning aid; confirm with the trial statistician"
 
@@ -22,7 +30,7 @@ _NORMAL = NormalDist()
 
 # The definition of the smallest detectable change uses the rounded quantile 1.96
 # (Weir 2005; de Vet et al. 2006), as the statistics core's mdc95 does.
-Z95_ROUNDED = 1.96
+Z95_ROUNDED = _error.Z95
 
 
 def z_quantile(p: float) -> float:
@@ -35,66 +43,59 @@ def ceil_clean(value: float) -> int:
     return math.ceil(round(value, 9))
 
 
+def _unit(value: float) -> float:
+    # A coefficient below 0 means no reliability at all, and 1 is its ceiling; plans can
+    # state either, and the formulas are only defined in between.
+    return min(max(value, 0.0), 1.0)
+
+
 # ---------------------------------------------------------------- Spearman-Brown
 
 def spearman_brown(single: float, k: float) -> float:
     """Reliability of the mean of k parallel ratings: k r / (1 + (k - 1) r)."""
-    return k * single / (1.0 + (k - 1.0) * single)
+    return float(_sb.spearman_brown(_unit(single), k))
 
 
 def single_from_average(average: float, k: float) -> float:
     """Inverse Spearman-Brown: the single-rating value behind a mean-of-k coefficient."""
-    return average / (k - (k - 1.0) * average)
+    return _sb.single_from_average(_unit(average), k)
 
 
 def raters_needed(single: float, target: float) -> int:
-    """Smallest whole number of ratings whose mean reaches ``target``.
-
-    k = target (1 - r) / (r (1 - target)), rounded up.
-    """
+    """Smallest whole number of ratings whose mean reaches ``target`` (rounded up)."""
     if single >= target:
         return 1
     if single <= 0.0:
         raise ValueError(f"single-rating reliability must be > 0 to be stepped up, got {single!r}")
-    return max(1, ceil_clean(target * (1.0 - single) / (single * (1.0 - target))))
+    return _sb.raters_needed(single, target).k
 
 
 # ---------------------------------------------------------------- Bonett (2002)
 
 def bonett_width(rho: float, k: int, n: int, confidence: float = 0.95) -> float:
-    """Expected full width of an ICC confidence interval with n subjects and k raters.
-
-    w = 2 z (1 - rho)(1 + (k - 1) rho) sqrt(2 / (k (k - 1)(n - 1)))  (Bonett 2002).
-    """
-    if k < 2 or n < 2:
-        raise ValueError(f"Bonett's width needs k >= 2 raters and n >= 2 subjects, got k={k}, n={n}")
-    z = z_quantile(1.0 - (1.0 - confidence) / 2.0)
-    return 2.0 * z * (1.0 - rho) * (1.0 + (k - 1) * rho) * math.sqrt(2.0 / (k * (k - 1) * (n - 1.0)))
+    """Expected full width of an ICC confidence interval with n subjects and k raters."""
+    if rho >= 1.0:
+        return 0.0
+    return _study.icc_ci_width_bonett(_unit(rho), k, n, confidence).width
 
 
 def bonett_subjects(rho: float, k: int, width: float, confidence: float = 0.95) -> int:
-    """Subjects needed for a full interval width ``width`` (Bonett 2002, eq. 3).
-
-    n = 1 + 8 z^2 (1 - rho)^2 (1 + (k - 1) rho)^2 / (k (k - 1) w^2), plus 5 rho when k = 2 and
-    rho >= 0.7 as Bonett suggests for that case (the statistics core does the same).
-    """
-    z = z_quantile(1.0 - (1.0 - confidence) / 2.0)
-    n = 1.0 + 8.0 * z**2 * (1.0 - rho) ** 2 * (1.0 + (k - 1) * rho) ** 2 / (k * (k - 1) * width**2)
-    if k == 2 and rho >= 0.7:
-        n += 5.0 * rho
-    return max(2, ceil_clean(n))
+    """Subjects needed for a full interval width ``width`` (Bonett 2002, eq. 3)."""
+    if rho >= 1.0:
+        return 2
+    return _study.subjects_for_icc_width_bonett(_unit(rho), k, width, confidence).n
 
 
 # ---------------------------------------------------------------- measurement error
 
 def sem(sd: float, reliability: float) -> float:
     """Standard error of measurement, SD sqrt(1 - r)."""
-    return sd * math.sqrt(1.0 - reliability)
+    return _error.sem(sd, _unit(reliability))
 
 
 def smallest_detectable_change(sem_value: float) -> float:
     """Smallest change an individual must show to exceed measurement error: 1.96 sqrt(2) SEM."""
-    return Z95_ROUNDED * math.sqrt(2.0) * sem_value
+    return _error.mdc95(sem_value)
 
 
 # ---------------------------------------------------------------- two-group sample size

@@ -21,7 +21,6 @@ from protolint.rules._evidence_fit import (
     fitting_type,
     icc_form,
     individual_use,
-    is_icc,
     ratings_averaged,
     same_text,
     single_rating_value,

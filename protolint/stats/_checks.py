@@ -7,15 +7,20 @@ command-line layer can pass it to the user unchanged. Validation never uses ``as
 from __future__ import annotations
 
 import math
+import numbers
 from collections.abc import Sequence
+from typing import TYPE_CHECKING
 
-import numpy as np
-from numpy.typing import ArrayLike, NDArray
+# numpy is imported inside the array helpers only: the scalar checks serve the closed-form
+# formulas (Spearman-Brown, Bonett, SEM) that `protolint check` uses without loading numpy.
+if TYPE_CHECKING:
+    import numpy as np
+    from numpy.typing import ArrayLike, NDArray
 
 
 def real(name: str, value: object) -> float:
     """Return ``value`` as a finite float, or raise naming ``name``."""
-    if isinstance(value, bool) or not isinstance(value, (int, float, np.integer, np.floating)):
+    if isinstance(value, bool) or not isinstance(value, numbers.Real):
         raise TypeError(f"{name} must be a real number, got {value!r}")
     out = float(value)
     if not math.isfinite(out):
@@ -63,7 +68,7 @@ def positive(name: str, value: object) -> float:
 
 def integer(name: str, value: object, minimum: int) -> int:
     """An integer at least ``minimum`` (bools are refused)."""
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
+    if isinstance(value, bool) or not isinstance(value, numbers.Integral):
         raise TypeError(f"{name} must be an integer, got {value!r}")
     out = int(value)
     if out < minimum:
@@ -91,6 +96,8 @@ def matrix(name: str, data: ArrayLike, *, min_rows: int = 2, min_cols: int = 2) 
 
     Infinite values are refused: they are never a rating.
     """
+    import numpy as np
+
     try:
         arr = np.asarray(data, dtype=float)
     except (TypeError, ValueError) as exc:
@@ -108,6 +115,8 @@ def matrix(name: str, data: ArrayLike, *, min_rows: int = 2, min_cols: int = 2) 
 
 def complete_rows(name: str, arr: NDArray[np.float64], *, min_rows: int = 2) -> tuple[NDArray[np.float64], int]:
     """Keep only rows without a missing cell; return them and how many were dropped."""
+    import numpy as np
+
     keep = ~np.isnan(arr).any(axis=1)
     kept = arr[keep]
     dropped = int(arr.shape[0] - kept.shape[0])
@@ -129,6 +138,8 @@ def encode(
     categories are the distinct observed values; with them, every observed value must be
     one of them (unobserved categories still count, e.g. for weights and Gwet's q).
     """
+    import numpy as np
+
     observed = np.unique(arr[~np.isnan(arr)])
     if categories is None:
         cats = observed
@@ -150,6 +161,8 @@ def encode(
 
 def category_counts(codes: NDArray[np.intp], n_categories: int) -> NDArray[np.float64]:
     """Per-subject counts of each category (subjects x categories), ignoring -1 cells."""
+    import numpy as np
+
     n = codes.shape[0]
     rows = np.broadcast_to(np.arange(n)[:, None], codes.shape)
     valid = codes >= 0
@@ -164,6 +177,8 @@ def agreement_weights(values: NDArray[np.float64], kind: str) -> NDArray[np.floa
     ``quadratic`` 1 - (x_k - x_l)^2 / (max - min)^2, computed on the category *values*
     (Cicchetti & Allison 1971; Fleiss & Cohen 1973; Gwet 2014, ch. 3).
     """
+    import numpy as np
+
     choice("weights", kind, ("unweighted", "linear", "quadratic"))
     q = values.size
     if kind == "unweighted" or q < 2:
