@@ -26,6 +26,13 @@ demo: $(STAMP)
 	$(VENV)/bin/protolint agreement demo_protocol/data/certification_hlsc8.csv --format json --output $(OUT)/demo-certification-agreement.json
 	$(VENV)/bin/protolint agreement demo_protocol/data/photo_grades_phg5.csv --scale ordinal --format json --output $(OUT)/demo-photo-agreement.json
 	$(VENV)/bin/protolint consistency demo_protocol/data/items_hlsc8.csv --format json --output $(OUT)/demo-items-consistency.json
+	$(VENV)/bin/protolint render manual $(DEMO) --output $(OUT)/demo-manual.pdf
+	$(VENV)/bin/protolint render checklist $(DEMO) --output $(OUT)/demo-checklist.pdf
+	$(VENV)/bin/protolint render binder $(DEMO) --output $(OUT)/demo-binder.pdf
+	$(VENV)/bin/protolint render binder $(DEMO) --format html --output $(OUT)/demo-binder.html
+	$(VENV)/bin/protolint render manual $(DEMO) --format markdown --output $(OUT)/demo-manual.md
+	$(VENV)/bin/protolint calendar $(DEMO) --output $(OUT)/demo-calendar.ics
+	@echo "make demo: reports, documents and the calendar are in $(OUT)/"
 
 # pytest exits 5 when it collected no test: that is a failure here, never a pass.
 test: $(STAMP)
