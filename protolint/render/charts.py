@@ -37,6 +37,9 @@ class SampleSizeCurve:
     plan_reliability: float
     plan_n_total: int
     stated_n_total: int | None
+    evidence_reliability: float | None = None
+    """The reliability the plan's evidence supports for the way the endpoint is rated."""
+    evidence_n_total: int | None = None
 
 
 def sample_size_chart(curve: SampleSizeCurve) -> str:
@@ -47,7 +50,7 @@ def sample_size_chart(curve: SampleSizeCurve) -> str:
     import matplotlib.pyplot as plt
 
     with matplotlib.rc_context(_STYLE):
-        figure, axes = plt.subplots(figsize=(6.2, 3.1))
+        figure, axes = plt.subplots(figsize=(6.2, 2.6))
         try:
             axes.plot(curve.reliabilities, curve.n_totals, color="#1f4e79", linewidth=1.6,
                       label="N to enrol (both groups)")
@@ -56,6 +59,12 @@ def sample_size_chart(curve: SampleSizeCurve) -> str:
                       label=f"this plan: reliability {curve.plan_reliability:.2f}, N = {curve.plan_n_total}")
             axes.annotate(f"N = {curve.plan_n_total}", (curve.plan_reliability, curve.plan_n_total),
                           textcoords="offset points", xytext=(8, 8), color="#b03a2e")
+            if curve.evidence_reliability is not None and curve.evidence_n_total is not None:
+                axes.plot([curve.evidence_reliability], [curve.evidence_n_total], marker="D", markersize=6,
+                          color="#7a5c00", linestyle="none",
+                          label=f"evidence supports: reliability {curve.evidence_reliability:.2f}, N = {curve.evidence_n_total}")
+                axes.annotate(f"N = {curve.evidence_n_total}", (curve.evidence_reliability, curve.evidence_n_total),
+                              textcoords="offset points", xytext=(8, 8), color="#7a5c00")
             if curve.stated_n_total is not None:
                 axes.axhline(curve.stated_n_total, color="#555555", linestyle="--", linewidth=1,
                              label=f"N the plan states ({curve.stated_n_total})")
@@ -65,7 +74,7 @@ def sample_size_chart(curve: SampleSizeCurve) -> str:
             axes.set_ylim(bottom=0)
             axes.grid(True, color="#dddddd", linewidth=0.6)
             # Below the axes, so the legend never hides the curve whatever its shape.
-            axes.legend(frameon=False, loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=3, fontsize=8)
+            axes.legend(frameon=False, loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2, fontsize=8)
             buffer = io.StringIO()
             figure.savefig(buffer, format="svg", bbox_inches="tight", metadata={"Date": None})
         finally:

@@ -12,7 +12,7 @@ import os
 from dataclasses import dataclass
 from datetime import date, datetime, timezone
 from pathlib import PurePath
-from typing import Callable
+from typing import Any, Callable
 
 from protolint import CAUTION, __version__
 from protolint.plan import LoadedPlan
@@ -534,6 +534,33 @@ def _sop_section(plan: Plan, sop: Sop) -> SopSection:
     return SopSection(sop.id, sop.title, sop.version, facts, approvals, sop.summary, sheets)
 
 
+@dataclass(frozen=True)
+class EvidencePoint:
+    reliability: float
+    n_total: int
+    power: float
+    description: str
+
+
+def _evidence_point(plan: Plan, endpoint: Endpoint, effect: float, common: dict[str, Any]) -> EvidencePoint | None:
+    """The N the same comparison needs at the reliability the plan's own evidence supports for
+    the way the endpoint is rated (the figure `power/unadjusted-for-reliability` checks)."""
+    from protolint.rules.evidence_fit import trial_reliability
+    from protolint.stats import SolverError, sample_size_two_group
+
+    expected = trial_reliability(plan, endpoint)
+    if expected is None or not 0.0 < expected.reliability <= 1.0:
+        return None
+    try:
+        result = sample_size_two_group(effect, reliability=expected.reliability, **common)
+    except (SolverError, ValueError):
+        return None
+    ratings = "one rating" if expected.ratings == 1 else f"the mean of {expected.ratings} ratings"
+    description = (f"{number(expected.reliability, 3)} ({ratings}; single-rating value "
+                   f"{number(expected.single, 3)} from evidence {expected.evidence.id})")
+    return EvidencePoint(expected.reliability, result.n_total_enrolled, result.achieved_power, description)
+
+
 def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
     """The reliability-adjusted sample size of the plan's comparison, with its curve.
 
@@ -557,6 +584,7 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
     except (SolverError, ValueError) as error:
         return SampleSizeAppendix((), (Fact("Could not compute", str(error)),), "", "", None)
     endpoint = plan.endpoint(spec.endpoint)
+    supported = _evidence_point(plan, endpoint, d, common)
     inputs = (
         Fact("Endpoint", endpoint.label),
         Fact("Standardised effect (true score)", number(d, 3)),
@@ -576,11 +604,18 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
         Fact("N at perfect reliability (total)", str(at_plan.n_total_perfect_reliability)),
         Fact("Method", at_plan.method),
     )
+    if supported is not None:
+        results += (
+            Fact("Reliability the evidence supports", supported.description),
+            Fact("To enrol at that reliability", f"{supported.n_total} (power {number(supported.power, 3)})"),
+        )
     note = None
     if reliability >= 1.0:
         note = ("The plan assumes perfect reliability. No rated score is perfectly reliable; the curve "
                 "shows how many participants the same comparison needs at realistic reliabilities.")
-    svg = sample_size_chart(SampleSizeCurve(tuple(grid), tuple(curve), reliability, at_plan.n_total_enrolled, spec.stated_n_total))
+    svg = sample_size_chart(SampleSizeCurve(
+        tuple(grid), tuple(curve), reliability, at_plan.n_total_enrolled, spec.stated_n_total,
+        supported.reliability if supported else None, supported.n_total if supported else None))
     convention = ("Classical test theory: the observed standardised effect is d·√ρ, so the analysable N "
                   "grows as 1/ρ. Exact power from the noncentral t distribution. The curve shows the "
                   "participants to enrol (analysable N increased for the expected dropout), which is what "

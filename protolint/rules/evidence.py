@@ -11,7 +11,7 @@ from typing import Iterator
 
 from protolint.findings import Severity
 from protolint.plan.model import Endpoint, Evidence, Instrument, Plan
-from protolint.rules._evidence_fit import (
+from protolint.rules.evidence_fit import (
     CORRELATIONS,
     KAPPAS,
     REPEATED_TYPES,

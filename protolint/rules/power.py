@@ -11,7 +11,7 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan
-from protolint.rules._evidence_fit import individual_use, trial_reliability
+from protolint.rules.evidence_fit import individual_use, trial_reliability
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
