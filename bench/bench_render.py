@@ -128,6 +128,8 @@ def main() -> None:
             print(f"  {kind:9s} PDF: {seconds:6.2f} s, {pages(pdf):4d} pages, {len(pdf) / 1024:7.0f} KiB  (target 30 s)")
         seconds, _ = timed(render, "checklist", "html", stress)
         print(f"  checklist HTML: {seconds:.2f} s")
+        seconds, pdf = timed(render, "checklist", "pdf", stress, "a4", None, "S01")
+        print(f"  checklist PDF for one site (--site S01): {seconds:.2f} s, {pages(pdf)} pages")
 
 
 if __name__ == "__main__":

@@ -7,17 +7,18 @@ from pathlib import PurePath
 
 import click
 
+from protolint.errors import ProtolintError
 from protolint.render import FORMATS, KINDS, PAPERS
 
 _SUFFIX = {"pdf": ".pdf", "html": ".html", "markdown": ".md"}
 
 
-def default_output(plan: str, kind: str, fmt: str) -> str | None:
-    """PDF goes to ``<plan-stem>-<kind>.pdf`` in the current folder; text formats to stdout."""
+def default_output(plan: str, kind: str, fmt: str, site: str | None = None) -> str | None:
+    """PDF goes to ``<plan-stem>-<kind>[-<site>].pdf`` in the current folder; text formats to stdout."""
     if fmt != "pdf":
         return None
     stem = "plan" if plan == "-" else PurePath(plan).stem
-    return f"{stem}-{kind}{_SUFFIX[fmt]}"
+    return f"{stem}-{kind}{'-' + site if site else ''}{_SUFFIX[fmt]}"
 
 
 class _TerminalProgress:
@@ -49,7 +50,8 @@ class _TerminalProgress:
               help="File to write ('-' for standard output). Default: <plan-stem>-<kind>.pdf for PDF, "
                    "standard output for html and markdown.")
 @click.option("--paper", type=click.Choice(PAPERS), default="a4", show_default=True, help="Paper size for PDF and printing.")
-def command(kind: str, plan: str, fmt: str, output: str | None, paper: str) -> None:
+@click.option("--site", metavar="SITE-ID", help="Checklist only: the copy for one site (its id, or 'central').")
+def command(kind: str, plan: str, fmt: str, output: str | None, paper: str, site: str | None) -> None:
     """Render a controlled document from PLAN: the rater manual, the monitoring
     checklist or the SOP binder.
 
@@ -63,16 +65,20 @@ def command(kind: str, plan: str, fmt: str, output: str | None, paper: str) -> N
       protolint render manual plan.yaml --format html --output manual.html
       protolint render checklist plan.yaml --format markdown > checklist.md
       protolint render binder plan.yaml --paper letter
+      protolint render checklist plan.yaml --site S01 --output S01-checklist.pdf
     """
     from protolint.atomic import write_atomic
     from protolint.plan import read_plan_file
     from protolint.render import render
 
     loaded = read_plan_file(plan)
-    target = output if output is not None else default_output(plan, kind, fmt)
+    target = output if output is not None else default_output(plan, kind, fmt, site)
     progress = _TerminalProgress() if sys.stderr.isatty() else None
     try:
-        document = render(kind, fmt, loaded, paper, progress)
+        try:
+            document = render(kind, fmt, loaded, paper, progress, site)
+        except ValueError as error:
+            raise ProtolintError(f"render {kind}: {error}") from None
     finally:
         if progress is not None:
             progress.done()

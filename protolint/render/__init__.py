@@ -19,14 +19,17 @@ PAPERS = ("a4", "letter")
 Progress = Callable[[str], None]
 
 
-def build_context(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> Any:
-    """The typed context of document ``kind`` for ``loaded``."""
+def build_context(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
+                  site: str | None = None) -> Any:
+    """The typed context of document ``kind`` for ``loaded`` (``site``: one site's checklist)."""
     from protolint.render import context
 
+    if site is not None and kind != "checklist":
+        raise ValueError("a single site can be chosen for the checklist only")
     if kind == "manual":
         return context.manual_context(loaded, paper)
     if kind == "checklist":
-        return context.checklist_context(loaded, paper)
+        return context.checklist_context(loaded, paper, site)
     if kind == "binder":
         return context.binder_context(loaded, paper, progress)
     raise ValueError(f"document kind must be one of {', '.join(KINDS)}, got {kind!r}")
@@ -37,30 +40,33 @@ def _fields(ctx: Any) -> dict[str, Any]:
     return {field.name: getattr(ctx, field.name) for field in dataclasses.fields(ctx)}
 
 
-def render_html(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> str:
+def render_html(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
+                site: str | None = None) -> str:
     """One self-contained HTML file (inline CSS and SVG, no external resource)."""
     from protolint.render.environment import make_env
 
-    ctx = build_context(kind, loaded, paper, progress)
+    ctx = build_context(kind, loaded, paper, progress, site)
     return make_env().get_template(f"{kind}.html.j2").render(**_fields(ctx))
 
 
-def render_markdown(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> str:
+def render_markdown(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
+                    site: str | None = None) -> str:
     """Markdown for wikis and electronic document systems (CommonMark with pipe tables)."""
     from protolint.render.environment import make_env
 
-    ctx = build_context(kind, loaded, paper, progress)
+    ctx = build_context(kind, loaded, paper, progress, site)
     return make_env().get_template(f"{kind}.md.j2").render(**_fields(ctx))
 
 
-def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> bytes:
+def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
+               site: str | None = None) -> bytes:
     """PDF/A-3b with the plan file embedded; see :mod:`protolint.render.pdf`."""
     from pathlib import PurePath
 
     from protolint.render.context import document_date
     from protolint.render.pdf import PdfSource, html_to_pdf
 
-    html = render_html(kind, loaded, paper, progress)
+    html = render_html(kind, loaded, paper, progress, site)
     assert loaded.plan is not None  # render_html has refused an invalid plan already
     day, _ = document_date(loaded.plan)
     name = PurePath(loaded.source.file).name
@@ -71,14 +77,16 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
     return html_to_pdf(html, source, paper, progress)
 
 
-def render(kind: str, fmt: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None) -> str | bytes:
-    """Document ``kind`` in format ``fmt`` (see ``KINDS`` and ``FORMATS``)."""
+def render(kind: str, fmt: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
+           site: str | None = None) -> str | bytes:
+    """Document ``kind`` in format ``fmt`` (see ``KINDS`` and ``FORMATS``); ``site`` limits the
+    checklist to one site's copy."""
     if paper not in PAPERS:
         raise ValueError(f"paper must be one of {', '.join(PAPERS)}, got {paper!r}")
     if fmt == "pdf":
-        return render_pdf(kind, loaded, paper, progress)
+        return render_pdf(kind, loaded, paper, progress, site)
     if fmt == "html":
-        return render_html(kind, loaded, paper, progress)
+        return render_html(kind, loaded, paper, progress, site)
     if fmt == "markdown":
-        return render_markdown(kind, loaded, paper, progress)
+        return render_markdown(kind, loaded, paper, progress, site)
     raise ValueError(f"format must be one of {', '.join(FORMATS)}, got {fmt!r}")

@@ -395,9 +395,12 @@ class ChecklistContext:
     sites: tuple[SiteChecklist, ...]
     unmonitored_pools: tuple[str, ...]
     round_count: int
+    only_site: str | None = None
+    """Set when this copy covers one site (``render checklist --site``)."""
 
 
-def checklist_context(loaded: LoadedPlan, paper: str = "a4") -> ChecklistContext:
+def checklist_context(loaded: LoadedPlan, paper: str = "a4", site: str | None = None) -> ChecklistContext:
+    """The monitoring checklist, for every site or, with ``site``, for one site's copy."""
     from protolint.plan.timeline import study_window
 
     plan = _plan(loaded)
@@ -421,9 +424,14 @@ def checklist_context(loaded: LoadedPlan, paper: str = "a4") -> ChecklistContext
     sites = [SiteChecklist(s.id, s.name, s.country, tuple(by_site[s.id])) for s in plan.study.sites if s.id in by_site]
     if schedule.CENTRAL in by_site:
         sites.append(SiteChecklist(schedule.CENTRAL, "Central rating", None, tuple(by_site[schedule.CENTRAL])))
+    if site is not None:
+        known = [s.id for s in sites]
+        if site not in known:
+            raise ValueError(f"site {site!r} has no monitoring rounds in this plan; choose one of: {', '.join(known) or 'none'}")
+        sites = [s for s in sites if s.id == site]
     count = sum(len(p.rounds) for s in sites for p in s.pools)
     return ChecklistContext(document_control(loaded, "checklist", paper), study_window(plan).last, tuple(sites),
-                            tuple(unmonitored), count)
+                            tuple(unmonitored), count, site)
 
 
 # --- SOP binder -----------------------------------------------------------------------------

@@ -86,3 +86,24 @@ def test_same_plan_same_bytes_across_processes(cli_process, tmp_path: Path) -> N
         assert result.returncode == 0, result.stderr
         outputs.append(target.read_bytes())
     assert outputs[0] == outputs[1]
+
+
+def test_checklist_for_one_site(cli, demo_plan, tmp_path: Path, monkeypatch) -> None:
+    monkeypatch.chdir(tmp_path)
+    whole = cli("render", "checklist", demo_plan, "--format", "markdown").stdout
+    one = cli("render", "checklist", demo_plan, "--format", "markdown", "--site", "S02").stdout
+    assert "(S01)" in whole and "(S02)" in whole
+    assert "(S02)" in one and "(S01)" not in one and "Central rating" not in one
+    assert "This copy covers site S02 only." in one
+    result = cli("render", "checklist", demo_plan, "--site", "S02")
+    assert result.exit_code == 0 and (tmp_path / "plan-checklist-S02.pdf").read_bytes().startswith(b"%PDF")
+
+
+@pytest.mark.parametrize("args, words", [
+    (("render", "checklist", "--site", "S99"), "choose one of: S01, S02, S03, S04, central"),
+    (("render", "binder", "--site", "S01"), "checklist only"),
+])
+def test_bad_site_choice_exits_2(cli_process, demo_plan, tmp_path: Path, args, words) -> None:
+    result = cli_process(*args[:2], demo_plan, *args[2:], "--format", "html", cwd=tmp_path)
+    assert result.returncode == 2 and words in result.stderr and "Traceback" not in result.stderr
+    assert list(tmp_path.iterdir()) == []
