@@ -463,6 +463,9 @@ def _convert(hint: Any, raw: Any, path: Path) -> Any:
         return Date.fromisoformat(raw)
     if hint is float:
         return float(raw)
+    if hint is int:
+        # JSON Schema counts 10.0 as an integer; the model holds a real int.
+        return int(raw)
     if dataclasses.is_dataclass(hint):
         return _build(hint, raw, path)
     return raw

@@ -85,8 +85,12 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     if endpoint.analysis not in _RECOMPUTED or d is None or found is None or len(plan.study.arms) != 2:
         return
     rho = found.reliability
+    if rho <= 0.0:
+        return  # evidence of no reliability: no sample size recovers the effect (evidence rules report it)
     if size.effect_basis == "observed":
         rho_src = size.source_reliability if size.source_reliability is not None else rho
+        if rho_src <= 0.0:
+            return
         d_true = d / rho_src ** 0.5
         basis = f"observed with reliability {fmt(rho_src)}" + ("" if size.source_reliability is not None else " (assumed equal to the trial's)")
     else:
@@ -153,6 +157,9 @@ def fewer_raters_than_needed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
         if found is None or not plan.instrument(endpoint.instrument).is_rated_by_people:
             continue
         target = float(ctx.thresholds["individual_target" if individual_use(endpoint) else "target_reliability"])
+        if found.single <= 0.0:
+            # No number of raters lifts a reliability of zero; the evidence rules report that.
+            continue
         k = raters_needed(found.single, target)
         if found.ratings >= k:
             continue
