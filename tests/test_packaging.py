@@ -22,7 +22,7 @@ def wheel(tmp_path_factory) -> Path:
     skip = shutil.ignore_patterns("__pycache__", "*.pyc")
     for folder in ("protolint", "schemas", "templates"):
         shutil.copytree(REPO / folder, src / folder, ignore=skip)
-    for name in ("pyproject.toml", "setup.py", "MANIFEST.in", "README.md"):
+    for name in ("pyproject.toml", "setup.py", "MANIFEST.in", "README.md", "LICENSE"):
         shutil.copy(REPO / name, src / name)
     result = subprocess.run([sys.executable, "-m", "pip", "wheel", "--no-deps", "--no-build-isolation", "-w", str(out), str(src)],
                             capture_output=True, text=True)
