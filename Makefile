@@ -23,6 +23,7 @@ demo: $(STAMP)
 	$(VENV)/bin/protolint check $(DEMO) --fail-on never
 	$(VENV)/bin/protolint check $(DEMO) --fail-on never --format json --output $(OUT)/demo-check.json
 	$(VENV)/bin/protolint check $(DEMO) --fail-on never --format sarif --output $(OUT)/demo-check.sarif
+	$(VENV)/bin/protolint check $(DEMO) --fail-on never --format html --output $(OUT)/demo-check.html
 	$(VENV)/bin/protolint agreement demo_protocol/data/certification_hlsc8.csv --format json --output $(OUT)/demo-certification-agreement.json
 	$(VENV)/bin/protolint agreement demo_protocol/data/photo_grades_phg5.csv --scale ordinal --format json --output $(OUT)/demo-photo-agreement.json
 	$(VENV)/bin/protolint consistency demo_protocol/data/items_hlsc8.csv --format json --output $(OUT)/demo-items-consistency.json

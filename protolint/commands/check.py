@@ -12,7 +12,7 @@ from protolint import __version__
 from protolint.errors import ProtolintError
 from protolint.findings import CheckResult, PlanResult, Severity
 
-FORMATS = ("text", "json", "sarif", "junit", "markdown")
+from protolint.report import FORMATS
 
 
 def _parse_as_of(ctx: click.Context, param: click.Parameter, value: str | None) -> date | None:
