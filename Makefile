@@ -8,7 +8,7 @@ STAMP  := $(VENV)/.protolint-installed
 OUT    ?= out
 DEMO   := demo_protocol/plan.yaml
 
-.PHONY: demo test bench install clean rules-doc
+.PHONY: demo test bench install clean rules-doc lint
 
 install: $(STAMP)
 
@@ -42,6 +42,12 @@ test: $(STAMP)
 
 bench: $(STAMP)
 	@for script in bench/bench_*.py; do echo "== $$script"; $(PY) $$script || exit 1; done
+
+# Type check and static checks (the dev extra); not part of `make test`.
+lint: $(STAMP)
+	$(PY) -m pip install --quiet -e '.[dev]'
+	$(PY) -m ruff check --select F,E9 protolint tests bench tools
+	$(PY) -m mypy protolint
 
 rules-doc: $(STAMP)
 	$(PY) tools/write_rule_reference.py

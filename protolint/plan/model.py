@@ -442,7 +442,7 @@ def _hints(cls: Any) -> dict[str, Any]:
 def _build(cls: Any, data: dict[str, Any], path: Path) -> Any:
     hints = _hints(cls)
     values: dict[str, Any] = {"path": path}
-    for field in dataclasses.fields(cls):  # type: ignore[arg-type]
+    for field in dataclasses.fields(cls):
         if field.name == "path" or field.name not in data:
             continue
         values[field.name] = _convert(hints[field.name], data[field.name], path + (field.name,))

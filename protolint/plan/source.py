@@ -297,7 +297,8 @@ class _Converter:
         typed: Any = self.typed_plain(node, value)
         expected: dict[str, tuple[type, ...]] = {"int": (int,), "float": (int, float), "bool": (bool,), "null": (type(None),)}
         kinds = expected[tag[len(_CORE):]]
-        if isinstance(typed, bool) and bool not in kinds or not isinstance(typed, kinds):
+        fits = isinstance(typed, kinds) and not (isinstance(typed, bool) and bool not in kinds)
+        if not fits:
             raise self.fail(node, f"{value!r} is not a valid {tag[len(_CORE):]}")
         return float(typed) if tag.endswith("float") else typed
 

@@ -16,9 +16,9 @@ from __future__ import annotations
 import io
 import re
 from dataclasses import dataclass
-from typing import Sequence
+from typing import Any, Sequence
 
-_STYLE = {
+_STYLE: dict[str, Any] = {
     "svg.hashsalt": "protolint",
     "svg.fonttype": "path",
     "font.family": ["DejaVu Sans"],
@@ -49,7 +49,7 @@ def sample_size_chart(curve: SampleSizeCurve) -> str:
     matplotlib.use("Agg", force=True)
     import matplotlib.pyplot as plt
 
-    with matplotlib.rc_context(_STYLE):
+    with matplotlib.rc_context(_STYLE):  # type: ignore[arg-type]  # matplotlib types keys as a Literal
         figure, axes = plt.subplots(figsize=(6.2, 2.6))
         try:
             axes.plot(curve.reliabilities, curve.n_totals, color="#1f4e79", linewidth=1.6,

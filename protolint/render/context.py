@@ -603,7 +603,7 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
         Fact("Reliability the calculation assumes", number(reliability)),
         Fact("Total N to enrol stated in the plan", str(spec.stated_n_total)),
     )
-    results = (
+    results: tuple[Fact, ...] = (
         Fact("Observed effect after attenuation", number(at_plan.effect_size_observed, 3)),
         Fact("Analysable N per group", " / ".join(str(n) for n in at_plan.n_per_group)),
         Fact("Analysable N in total", str(at_plan.n_total)),
@@ -659,7 +659,7 @@ def binder_context(loaded: LoadedPlan, paper: str = "a4",
         (RevisionRow(f"{sop.id} {sop.title}", rev.version, rev.date, rev.summary or "")
          for sop in plan.sops for rev in sop.revisions),
         key=lambda row: (row.date, row.document, row.version)))
-    amendments = ()
+    amendments: tuple[RevisionRow, ...] = ()
     if plan.protocol:
         amendments = tuple(RevisionRow(f"{plan.protocol.id} {a.id}", a.version or "", a.effective, a.summary or "")
                            for a in plan.protocol.amendments)

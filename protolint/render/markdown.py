@@ -34,7 +34,7 @@ _INLINE_RULES = ["text", "newline", "escape", "backticks", "emphasis", "link", "
 def link_allowed(url: str) -> bool:
     """True for an absolute http, https or mailto URL; everything else is refused."""
     match = _SCHEME.match(url)
-    return bool(match) and match.group(1).lower() in ALLOWED_SCHEMES
+    return match is not None and match.group(1).lower() in ALLOWED_SCHEMES
 
 
 @lru_cache(maxsize=1)

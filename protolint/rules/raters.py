@@ -154,9 +154,9 @@ def certification_expired(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
             expires = cert.expires or (_add_months(cert.date, months) if months else None)
             if expires is not None and expires <= ctx.as_of:
                 yield Hit(cert.path + ("date",),
-                          f"rater {rater.id}'s certification on {cert.instrument} from {cert.date.isoformat()} expired on "  # type: ignore[attr-defined]
+                          f"rater {rater.id}'s certification on {cert.instrument} from {cert.date.isoformat()} expired on "
                           f"{expires.isoformat()} (checked as of {ctx.as_of.isoformat()}); recertify before the next rating",
-                          {"rater": rater.id, "instrument": cert.instrument, "expires": expires.isoformat(),  # type: ignore[attr-defined]
+                          {"rater": rater.id, "instrument": cert.instrument, "expires": expires.isoformat(),
                            "as_of": ctx.as_of.isoformat()})
 
 
