@@ -89,6 +89,7 @@ _STYLE_ATTRIBUTE = re.compile(r'style="([^"]*)"')
 _STYLE_ELEMENT = re.compile(r"<style[^>]*>(.*?)</style>\s*", re.DOTALL)
 _METADATA = re.compile(r"<metadata>.*?</metadata>\s*", re.DOTALL)
 _DECLARATION = re.compile(r"^[a-z-]+$")
+_PATH_WITHOUT_OUTLINE = re.compile(r"<path(?![^>]*\sd=)((?:\s[^>]*)?/?>)")
 
 
 def _as_attributes(style: str) -> str:
@@ -115,6 +116,9 @@ def _inline_svg(svg: str) -> str:
         svg = _STYLE_ELEMENT.sub("", svg)
     svg = _STYLE_ATTRIBUTE.sub(lambda m: _as_attributes(m.group(1)), svg)
     svg = re.sub(r'<svg([^>]*?) width="[^"]*" height="[^"]*"', rf'<svg\1 class="chart" {root_style}', svg, count=1)
+    # matplotlib writes the space glyph as a <path> with no outline; HTML validators require
+    # the d attribute, and an empty one draws the same nothing.
+    svg = _PATH_WITHOUT_OUTLINE.sub(r'<path d=""\1', svg)
     return svg
 
 
