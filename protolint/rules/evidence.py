@@ -96,8 +96,8 @@ def _threshold_hits(plan: Plan, ctx: RuleContext, individual: bool) -> Iterator[
 def below_group_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The reliability the evidence supports for a group comparison is below the minimum.
 
-    Below about 0.70 so much of the score is error that group comparisons lose much of their
-    power. The value compared is the one that applies to how the trial rates: the evidence's
+    Under roughly 0.70 measurement error takes so large a share of the score variance that a
+    between-group comparison needs far more participants. The value compared is the one that applies to how the trial rates: the evidence's
     single-rating value (average-measures ICCs are stepped down), stepped up by Spearman–Brown
     to the trial's number of independent raters per assessment. The least favourable fitting
     record is used. Endpoints whose scores decide about individuals are judged by
@@ -134,8 +134,8 @@ def below_individual_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 def lower_bound_below_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The evidence's confidence interval reaches below the reliability the trial needs.
 
-    A point estimate above the bar can come from a study too small to rule out poor
-    reliability. The lower bound is moved to the trial's way of rating exactly as the point
+    A small study can report an estimate that clears the minimum while its interval still
+    admits a reliability far below it. The lower bound is moved to the trial's way of rating exactly as the point
     estimate is (stepped down from an average form, stepped up to the trial's raters) and
     compared with the minimum for the endpoint's use. A record with neither an interval nor a
     number of subjects cannot be judged for precision at all, which is also noted.
@@ -198,8 +198,9 @@ def kappa_for_interval_score(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 def alpha_as_rater_evidence(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Internal consistency (Cronbach's alpha) is offered where rater or retest agreement is needed.
 
-    Alpha shows that a scale's items move together within one administration. It says
-    nothing about whether two raters, or two occasions, give the same score. It fails when a
+    Cronbach's alpha measures how consistently the items of one scale rank respondents on a
+    single occasion. Rater error and day-to-day change never enter it, so a high alpha is no
+    evidence that different raters, or repeat visits, reproduce a score. It fails when a
     record labelled inter-rater, intra-rater or test-retest reports Cronbach's alpha, and when
     an instrument behind an endpoint has internal-consistency evidence only.
 
@@ -228,7 +229,8 @@ def alpha_as_rater_evidence(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 def correlation_as_agreement(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A correlation is offered as agreement between raters or occasions.
 
-    Two raters can correlate perfectly while one scores every participant five points higher.
+    A correlation ignores constant offsets: a rater who adds five points to every score
+    correlates perfectly with one who does not, yet the two never agree.
     A Pearson or Spearman correlation is acceptable only when the study also showed no
     systematic difference between raters or occasions (`no_systematic_difference: true`);
     otherwise report an absolute-agreement ICC or limits of agreement.
@@ -296,8 +298,9 @@ def icc_form_unstated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 def average_icc_for_single_rating(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An average-of-k ICC is quoted for a trial that averages fewer ratings.
 
-    The mean of k raters is more reliable than one rater; quoting ICC(2,k) for a trial where
-    one person rates each visit overstates the reliability the trial will have. The rule
+    An average-measures ICC describes the mean of k raters, which is more reliable than any
+    single rating; a trial with one rating per visit gets the single-rating value, not the
+    quoted one. The rule
     back-calculates the single-rating value with the inverse Spearman–Brown formula,
     r1 = rk / (k − (k − 1) rk), and steps it up to the trial's own number of raters.
 
@@ -422,8 +425,8 @@ def population_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 def rater_type_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Raters in the evidence study differ from the raters the trial qualifies.
 
-    Agreement among the experts who built a scale does not carry over to less experienced
-    trial raters. The evidence's `rater_profession` is compared with the pool's accepted
+    Scale developers and senior specialists usually agree more closely than the site raters a
+    trial recruits, so their figures flatter what the trial will see. The evidence's `rater_profession` is compared with the pool's accepted
     professions, and evidence from `expert` raters is compared with the pool's minimum
     experience (`expert_years`). Evidence that describes neither is reported too.
 

@@ -186,8 +186,8 @@ _DUPLICATING = frozenset({"co-rating", "central-re-rating", "video-review"})
 def no_duplicate_ratings(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """No random share of real trial assessments is rated a second time.
 
-    Certification shows reliability on training material; only duplicate ratings of trial
-    assessments (co-rating, blind review of recordings, central re-rating) show what the trial
+    Certification measures agreement on curated training cases. What the trial itself
+    achieves shows only when some of its own assessments are rated twice (co-rating, blind review of recordings, central re-rating) show what the trial
     achieved, so that it can be reported with the results. A stated `duplicate_fraction` below
     `min_duplicate_fraction` is reported too.
 

@@ -25,7 +25,7 @@ def reliability_not_stated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     Power depends on the outcome's reliability as much as on N. The calculation should state
     `assumed_reliability` and `effect_basis`: `true-score` for an effect on the error-free
-    scale, `observed` for one seen in an earlier study (with that study's reliability in
+    scale, `observed` for one measured in a previous trial (whose reliability goes in
     `source_reliability`), so that the adjustment can be checked.
 
     **Passes**: `assumed_reliability: 0.80`, `effect_basis: true-score`.
@@ -140,8 +140,8 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 def fewer_raters_than_needed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Fewer independent raters per assessment than Spearman–Brown says the target reliability needs.
 
-    When one rater cannot reach the reliability the endpoint needs, averaging independent
-    raters can. With single-rating reliability r₁ and target R*, the ratings needed are
+    If a single rating falls short of the endpoint's target, the mean of several independent
+    ratings may still reach it. With single-rating reliability r₁ and target R*, the ratings needed are
     k = ⌈R* (1 − r₁) / (r₁ (1 − R*))⌉, and the mean of k ratings reaches k r₁ / (1 + (k − 1) r₁).
     The target is `individual_target` when scores decide about individuals, otherwise
     `target_reliability`.
@@ -180,7 +180,7 @@ def non_independent_averaging(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Several raters per assessment are planned, but their ratings are not independent.
 
     The Spearman–Brown gain from averaging assumes each rater's error is independent. A
-    consensus score, or a second rater who sees the first one's score, shares the first
+    consensus score, or a later rater who already knows the earlier score, inherits the earlier
     rater's error; the plan earns (at most) the reliability of one rating, and the other
     rules credit it with no more.
 

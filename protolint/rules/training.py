@@ -138,8 +138,8 @@ def no_recertification_after_amendment(plan: Plan, ctx: RuleContext) -> Iterator
     include `instrument-version`, `administration` or `scoring` of an instrument in
     `affects_instruments`: every pool rating that instrument must list `amendment` among its
     recertification triggers, and every rater on the roster certified on it before the
-    amendment must hold a later certification dated on or before the amendment's effective
-    date. A rater whose latest certification predates the amendment is reported.
+    amendment must be certified again no later than the day the amendment takes effect. A
+    rater whose latest certification predates the amendment is reported.
 
     **Passes**: amendment effective 2027-03-01 changing scoring, rater recertified 2027-02-20.
 
