@@ -40,10 +40,10 @@ def reliability_not_stated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                                              "add assumed_reliability")
     if size.effect_basis is None:
         yield Hit(size.path + ("effect_size",) if size.effect_size is not None else size.path + ("endpoint",),
-                  "the sample size does not say whether its effect size is on the true-score scale or was observed "
-                  "in an earlier study; add effect_basis")
+                  "the sample size does not say whether its effect size is error-free (true-score) or was measured "
+                  "in a previous trial (observed); add effect_basis")
     elif size.effect_basis == "observed" and size.source_reliability is None:
-        yield Hit(size.path + ("effect_basis",), "the effect size was observed in an earlier study, but that study's "
+        yield Hit(size.path + ("effect_basis",), "the effect size comes from a previous trial whose "
                                                  "reliability is not given; add source_reliability")
 
 
