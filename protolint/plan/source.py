@@ -55,6 +55,7 @@ _BOMS = {
     b"\xff\xfe": "UTF-16",
     b"\xfe\xff": "UTF-16",
 }
+_LONE_CR = re.compile(r"\r(?!\n)")
 _ODD_LINE_BREAKS = {"\u2028": "LINE SEPARATOR", "\u2029": "PARAGRAPH SEPARATOR", "\u0085": "NEXT LINE"}
 
 Path = tuple[str | int, ...]
@@ -157,6 +158,13 @@ def _decode(raw: bytes, file: str) -> str:
     except UnicodeDecodeError as error:
         line, column = _line_column(raw[: error.start].decode("utf-8", errors="replace"))
         raise LocatedError(file, line, column, f"byte 0x{raw[error.start]:02x} is not valid UTF-8; save the file as UTF-8") from None
+    lone_cr = _LONE_CR.search(text)
+    if lone_cr:
+        line, column = _line_column(text[: lone_cr.start()])
+        # PyYAML ends a line at a carriage return that is not followed by a line feed; editors
+        # and GitHub do not, so every line number after it would be wrong.
+        raise LocatedError(file, line, column, "a carriage return without a line feed (old Mac line ending); "
+                                               "save the file with LF or CRLF line endings")
     for char, name in _ODD_LINE_BREAKS.items():
         index = text.find(char)
         if index >= 0:

@@ -176,3 +176,14 @@ def test_sha256_is_of_the_raw_bytes():
 
     raw = b"\xef\xbb\xbfa: 1\n"
     assert load(raw).sha256 == hashlib.sha256(raw).hexdigest()
+
+
+def test_windows_line_endings_keep_line_numbers():
+    source = load(b"a: 1\r\nb: 2\r\n")
+    assert source.data == {"a": 1, "b": 2}
+    assert source.source_map.spans[("b",)].key_line == 2
+
+
+def test_a_lone_carriage_return_is_refused_so_lines_stay_right():
+    error = error_of(b"a: 1\nb: 2\rc: 3\n")
+    assert (error.line, error.column) == (2, 5) and "carriage return" in error.reason
