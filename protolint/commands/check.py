@@ -76,12 +76,10 @@ def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | 
         color = output is None and sys.stdout.isatty() and not os.environ.get("NO_COLOR")
     report = render_report(fmt, result, [metas[i] for i in ran], color=color)
     if output:
-        from protolint.atomic import write_atomic
+        from protolint.commands._shared import emit
+        from protolint.report._common import counts_phrase
 
-        write_atomic(output, report)
-        counts = result.counts()
-        click.echo(f"protolint: wrote {fmt} report to {output} ({counts['error']} errors, {counts['warning']} warnings, "
-                   f"{counts['note']} notes, {counts['waived']} waived)", err=True)
+        emit(report, output, f"{fmt} report ({counts_phrase(result.counts())})")
     else:
         click.echo(report, nl=not report.endswith("\n"), color=color)
 
