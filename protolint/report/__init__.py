@@ -14,7 +14,7 @@ if TYPE_CHECKING:  # imported for annotations only, keeps start-up light
     from protolint.findings import CheckResult
     from protolint.rules.registry import RuleMeta
 
-FORMATS: tuple[str, ...] = ("text", "json", "sarif", "junit", "markdown", "html")
+FORMATS: tuple[str, ...] = ("text", "json", "sarif", "junit", "markdown", "html", "github")
 
 # format name -> module that implements it
 _FORMATTERS: dict[str, str] = {
@@ -24,6 +24,7 @@ _FORMATTERS: dict[str, str] = {
     "junit": "protolint.report.fmt_junit",
     "markdown": "protolint.report.fmt_markdown",
     "html": "protolint.report.fmt_html",
+    "github": "protolint.report.fmt_github",
 }
 
 
