@@ -13,10 +13,11 @@ Conventions (stated so that rules and documents agree):
 
 from __future__ import annotations
 
+import calendar
 from dataclasses import dataclass
 from datetime import date, timedelta
 
-from protolint.plan.model import Endpoint, Plan
+from protolint.plan.model import Endpoint, Plan, RaterCertification
 
 
 @dataclass(frozen=True)
@@ -76,3 +77,18 @@ def site_window(plan: Plan, site_id: str) -> RatingWindow:
     whole = study_window(plan)
     site = plan.study.site(site_id)
     return RatingWindow(site.first_assessment or whole.first, whole.last)
+
+
+def add_months(day: date, months: int) -> date:
+    """``day`` plus whole calendar months, clamped to the month's last day (31 Jan + 1 = 28/29 Feb)."""
+    month_index = day.month - 1 + months
+    year, month = day.year + month_index // 12, month_index % 12 + 1
+    return date(year, month, min(day.day, calendar.monthrange(year, month)[1]))
+
+
+def certification_expiry(certification: RaterCertification, interval_months: int | None) -> date | None:
+    """When a certification lapses: its own ``expires`` date, else the pool's recertification
+    interval counted from the certification date, else never."""
+    if certification.expires is not None:
+        return certification.expires
+    return add_months(certification.date, interval_months) if interval_months else None

@@ -16,7 +16,7 @@ from datetime import date, datetime, time, timedelta, timezone
 from protolint import CAUTION, __version__
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Plan
-from protolint.plan.timeline import study_window
+from protolint.plan.timeline import certification_expiry, study_window
 from protolint.render import schedule
 from protolint.render.context import document_date
 
@@ -71,14 +71,21 @@ def dated_duties(plan: Plan) -> tuple[DatedDuty, ...]:
                         f"Certifications of {pool.label} at {where} made by {span.first_rating.isoformat()} fall due "
                         f"(every {interval} months).", (pool.id, span.site)))
         for rater in plan.roster:
-            if rater.pool != pool.id or not interval:
+            if rater.pool != pool.id:
                 continue
             for cert in rater.certifications:
-                for due in schedule.recertification_dates(cert.date, interval, end):
+                first_due = certification_expiry(cert, interval)
+                if first_due is None or first_due > end:
+                    continue
+                # The first date is the certification's own expiry when the roster states one;
+                # later ones follow the pool's interval from there.
+                later = schedule.recertification_dates(first_due, interval, end) if interval else ()
+                for due in (first_due, *later):
                     duties.append(DatedDuty(
                         "recertification", due, f"{study}: recertification due — rater {rater.id}, {cert.instrument}",
                         f"Rater {rater.id} ({pool.label}) certified on {cert.instrument} on {cert.date.isoformat()}; "
-                        f"recertify every {interval} months.", (pool.id, rater.id, cert.instrument)))
+                        + (f"recertify every {interval} months." if interval else f"the certification lapses on {first_due.isoformat()}."),
+                        (pool.id, rater.id, cert.instrument)))
         for site_id, rounds in schedule.monitoring_rounds(plan, pool).items():
             where = _site_name(plan, site_id)
             for r in rounds:

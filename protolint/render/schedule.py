@@ -23,7 +23,7 @@ from dataclasses import dataclass
 from datetime import date, timedelta
 
 from protolint.plan.model import Plan, RaterPool
-from protolint.plan.timeline import endpoint_first_assessment, pool_sites, study_window
+from protolint.plan.timeline import add_months, endpoint_first_assessment, pool_sites, study_window
 
 CENTRAL = "central"
 """The ``site`` of a round or duty that belongs to a central pool."""
@@ -95,18 +95,6 @@ def monitoring_rounds(plan: Plan, pool: RaterPool) -> dict[str, tuple[Monitoring
         return {}
     return {span.site: rounds_between(pool.id, span.site, span.first_rating, span.last_rating, interval)
             for span in pool_spans(plan, pool)}
-
-
-def add_months(day: date, months: int) -> date:
-    """``day`` plus whole calendar months, clamped to the month's last day (31 Jan + 1 = 28/29 Feb)."""
-    month_index = day.month - 1 + months
-    year, month = day.year + month_index // 12, month_index % 12 + 1
-    for candidate in (day.day, 30, 29, 28):
-        try:
-            return date(year, month, min(day.day, candidate))
-        except ValueError:
-            continue
-    raise AssertionError("unreachable: every month has a 28th")  # pragma: no cover
 
 
 def recertification_dates(certified: date, interval_months: int, until: date) -> tuple[date, ...]:

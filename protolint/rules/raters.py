@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan, RaterCertification
+from protolint.plan.timeline import certification_expiry
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 
@@ -151,22 +152,13 @@ def certification_expired(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
             if cert.instrument not in latest or cert.date > latest[cert.instrument].date:
                 latest[cert.instrument] = cert
         for cert in latest.values():
-            expires = cert.expires or (_add_months(cert.date, months) if months else None)
+            expires = certification_expiry(cert, months)
             if expires is not None and expires <= ctx.as_of:
                 yield Hit(cert.path + ("date",),
                           f"rater {rater.id}'s certification on {cert.instrument} from {cert.date.isoformat()} expired on "
                           f"{expires.isoformat()} (checked as of {ctx.as_of.isoformat()}); recertify before the next rating",
                           {"rater": rater.id, "instrument": cert.instrument, "expires": expires.isoformat(),
                            "as_of": ctx.as_of.isoformat()})
-
-
-def _add_months(start, months: int):
-    import calendar
-    from datetime import date
-
-    month_index = start.month - 1 + months
-    year, month = start.year + month_index // 12, month_index % 12 + 1
-    return date(year, month, min(start.day, calendar.monthrange(year, month)[1]))
 
 
 @rule("raters/certified-on-other-version", "warning",

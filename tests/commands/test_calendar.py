@@ -58,3 +58,21 @@ def test_unreadable_plan_exits_2(cli_process, tmp_path: Path) -> None:
     assert result.returncode == 2
     assert result.stderr.startswith(f"{bad}:") and "Traceback" not in result.stderr
     assert not (tmp_path / "x.ics").exists()
+
+
+def test_a_rostered_expiry_date_is_the_recertification_date(demo_plan, tmp_path: Path) -> None:
+    # The rule raters/certification-expired and the calendar read the same expiry: the roster's
+    # own `expires` when given, else the pool's interval from the certification date.
+    text = demo_plan.read_text(encoding="utf-8")
+    edited = text.replace('certifications: [{instrument: HLSC-8, version: "1.2", date: 2026-08-10}]',
+                          'certifications: [{instrument: HLSC-8, version: "1.2", date: 2026-08-10, expires: 2027-02-10}]')
+    assert edited != text
+    plan_file = tmp_path / "plan.yaml"
+    plan_file.write_text(edited, encoding="utf-8")
+    duties = [d for d in dated_duties(read_plan_file(str(plan_file)).plan)
+              if d.kind == "recertification" and "R-S01-A" in d.summary]
+    # 2027-02-10 from the roster, then every 12 months (the pool's interval) until rating ends.
+    assert [d.day for d in duties] == [date(2027, 2, 10), date(2028, 2, 10)]
+    unedited = [d.day for d in dated_duties(read_plan_file(str(demo_plan)).plan)
+                if d.kind == "recertification" and "R-S01-A" in d.summary]
+    assert unedited == [date(2027, 8, 10)]   # 2026-08-10 + 12 months; rating ends 2028-03-15

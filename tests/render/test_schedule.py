@@ -24,7 +24,7 @@ import pytest
 from protolint.plan.model import Monitoring
 from protolint.render.schedule import (
     CENTRAL,
-    add_months,
+    add_months,  # re-exported from protolint.plan.timeline
     monitoring_rounds,
     recertification_dates,
     rounds_between,
