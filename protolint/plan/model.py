@@ -88,6 +88,13 @@ class Study:
     masking: str | None = None
     population: Population | None = None
 
+    @property
+    def allocation_ratio(self) -> float:
+        """Participants in the second arm per participant in the first (1 for a single arm)."""
+        if len(self.arms) >= 2 and self.arms[0].ratio:
+            return self.arms[1].ratio / self.arms[0].ratio
+        return 1.0
+
     def site(self, site_id: str) -> Site:
         return next(site for site in self.sites if site.id == site_id)
 

@@ -572,18 +572,26 @@ def _evidence_point(plan: Plan, endpoint: Endpoint, effect: float, common: dict[
 def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
     """The reliability-adjusted sample size of the plan's comparison, with its curve.
 
-    Uses the classical-test-theory convention (observed d = d·√ρ, DESIGN section 5) unless the
-    plan states its effect on the observed scale, in which case reliability does not enter.
+    Uses the classical-test-theory convention (observed d = d·√ρ, DESIGN section 5). An effect
+    the plan states as observed in a previous trial is first brought to the true-score scale
+    exactly as the sample-size rule does (``rules.evidence_fit.true_effect_size``).
     """
     from protolint.render.charts import SampleSizeCurve, reliability_grid, sample_size_chart
     from protolint.stats import SolverError, sample_size_two_group
 
+    from protolint.rules.evidence_fit import trial_reliability, true_effect_size
+
     spec = plan.sample_size
-    if spec is None or spec.standardised_effect is None:
+    if spec is None:
         return None
-    d = spec.standardised_effect
+    endpoint = plan.endpoint(spec.endpoint)
     reliability = spec.assumed_reliability if spec.assumed_reliability is not None else 1.0
-    ratio = _allocation_ratio(plan)
+    expected = trial_reliability(plan, endpoint)
+    effect = true_effect_size(spec, expected.reliability if expected else reliability)
+    if effect is None:
+        return None
+    d = effect.value
+    ratio = plan.study.allocation_ratio
     common = dict(alpha=spec.alpha, power=spec.power, sides=spec.sides or 2, ratio=ratio, dropout=spec.dropout or 0.0)
     try:
         at_plan = sample_size_two_group(d, reliability=reliability, **common)  # type: ignore[arg-type]
@@ -591,10 +599,12 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
         curve = [sample_size_two_group(d, reliability=r, **common).n_total_enrolled for r in grid]  # type: ignore[arg-type]
     except (SolverError, ValueError) as error:
         return SampleSizeAppendix((), (Fact("Could not compute", str(error)),), "", "", None)
-    endpoint = plan.endpoint(spec.endpoint)
     supported = _evidence_point(plan, endpoint, d, common)
+    stated = () if spec.effect_basis != "observed" else (
+        Fact("Standardised effect as stated", f"{number(spec.standardised_effect or 0, 3)} ({effect.basis})"),)
     inputs = (
         Fact("Endpoint", endpoint.label),
+        *stated,
         Fact("Standardised effect (true score)", number(d, 3)),
         Fact("Significance level", f"{number(spec.alpha, 3)}, {spec.sides or 2}-sided"),
         Fact("Target power", number(spec.power)),
@@ -629,13 +639,6 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
                   "participants to enrol (analysable N increased for the expected dropout), which is what "
                   "the plan's stated N counts.")
     return SampleSizeAppendix(inputs, results, svg, convention, note)
-
-
-def _allocation_ratio(plan: Plan) -> float:
-    arms = plan.study.arms
-    if len(arms) >= 2 and arms[0].ratio:
-        return arms[1].ratio / arms[0].ratio
-    return 1.0
 
 
 def check_appendix(loaded: LoadedPlan, as_of: date) -> CheckAppendix:

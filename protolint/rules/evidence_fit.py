@@ -10,7 +10,7 @@ import re
 from dataclasses import dataclass
 from typing import Iterable, Iterator
 
-from protolint.plan.model import Endpoint, Evidence, Instrument, Plan
+from protolint.plan.model import Endpoint, Evidence, Instrument, Plan, SampleSize
 from protolint.rules._working import single_from_average, spearman_brown
 from protolint.rules.registry import Hit
 
@@ -118,6 +118,33 @@ def trial_reliability(plan: Plan, endpoint: Endpoint) -> TrialReliability | None
     single = single_rating_value(evidence)
     m = trial_ratings(endpoint)
     return TrialReliability(evidence, single, m, spearman_brown(single, m) if m > 1 else single)
+
+
+@dataclass(frozen=True)
+class TrueEffect:
+    value: float
+    basis: str
+    """The effect's scale in words, for messages and documents."""
+
+
+def true_effect_size(size: SampleSize, trial_reliability_value: float) -> TrueEffect | None:
+    """The standardised effect on the error-free scale.
+
+    An effect stated as ``observed`` in a previous trial carries that trial's measurement
+    error: the true effect is d / √ρ_src, so that it is not penalised twice. Without
+    ``source_reliability`` the source is taken to be as reliable as this trial.
+    """
+    d = size.standardised_effect
+    if d is None:
+        return None
+    if size.effect_basis == "observed":
+        source = size.source_reliability if size.source_reliability is not None else trial_reliability_value
+        if source <= 0.0:
+            return None
+        assumed = "" if size.source_reliability is not None else " (assumed equal to the trial's)"
+        return TrueEffect(d / source ** 0.5, f"observed with reliability {source:.3g}{assumed}")
+    basis = "on the true-score scale" if size.effect_basis == "true-score" else "taken as true-score (effect_basis not stated)"
+    return TrueEffect(d, basis)
 
 
 def evidence_pairs(plan: Plan) -> Iterator[tuple[Instrument, Evidence, tuple[Endpoint, ...]]]:

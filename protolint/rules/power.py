@@ -11,7 +11,7 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan
-from protolint.rules.evidence_fit import individual_use, trial_reliability
+from protolint.rules.evidence_fit import individual_use, trial_reliability, true_effect_size
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
@@ -87,19 +87,14 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     rho = found.reliability
     if rho <= 0.0:
         return  # evidence of no reliability: no sample size recovers the effect (evidence rules report it)
-    if size.effect_basis == "observed":
-        rho_src = size.source_reliability if size.source_reliability is not None else rho
-        if rho_src <= 0.0:
-            return
-        d_true = d / rho_src ** 0.5
-        basis = f"observed with reliability {fmt(rho_src)}" + ("" if size.source_reliability is not None else " (assumed equal to the trial's)")
-    else:
-        d_true = d
-        basis = "on the true-score scale" if size.effect_basis == "true-score" else "taken as true-score (effect_basis not stated)"
+    effect = true_effect_size(size, rho)
+    if effect is None:
+        return
+    d_true, basis = effect.value, effect.basis
     d_obs = d_true * rho ** 0.5
     sides = size.sides or 2
     arms = plan.study.arms
-    ratio = arms[1].ratio / arms[0].ratio
+    ratio = plan.study.allocation_ratio
     dropout = size.dropout or 0.0
     groups = n_per_group(d_obs, size.alpha, size.power, sides, ratio)
     needed = enrolled(groups.n1, dropout) + enrolled(groups.n2, dropout)

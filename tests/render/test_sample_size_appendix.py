@@ -39,3 +39,21 @@ def test_no_evidence_point_without_fitting_evidence(starter_text, tmp_path):
     plan_file.write_text(text, encoding="utf-8")
     appendix = sample_size_appendix(read_plan_file(str(plan_file)).plan)
     assert "Reliability the evidence supports" not in facts(appendix)
+
+
+def test_an_observed_effect_is_brought_to_the_true_score_scale_as_the_rule_does(demo_plan, tmp_path):
+    # An effect of 0.36 observed with reliability 0.64 is 0.36 / sqrt(0.64) = 0.45 on the
+    # true-score scale: the demo's own effect, so the evidence point needs the same 316.
+    text = demo_plan.read_text(encoding="utf-8")
+    edited = text.replace("  effect_size: 0.45\n  effect_basis: true-score\n",
+                          "  effect_size: 0.36\n  effect_basis: observed\n  source_reliability: 0.64\n")
+    assert edited != text
+    plan_file = tmp_path / "plan.yaml"
+    plan_file.write_text(edited, encoding="utf-8")
+    loaded = read_plan_file(str(plan_file))
+    table = facts(sample_size_appendix(loaded.plan))
+    assert table["Standardised effect as stated"].startswith("0.360 (observed with reliability 0.64")
+    assert table["Standardised effect (true score)"] == "0.450"
+    assert table["To enrol at that reliability"].startswith("316 ")
+    rule = next(f for f in check_loaded(loaded).findings if f.rule == "power/unadjusted-for-reliability")
+    assert rule.facts["effect_size_true"] == 0.45 and rule.facts["n_total_needed"] == 316
