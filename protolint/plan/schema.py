@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import difflib
 from functools import lru_cache
-from typing import Any, Iterator
+from typing import Any
 
 from protolint.findings import Finding, Location, Severity, pointer_from_path
 from protolint.plan.source import LoadedSource, Path, SourceMap
@@ -175,8 +175,3 @@ def _quoted_key(message: str) -> str:
 def _suggest(value: str, options: list[str]) -> str:
     close = difflib.get_close_matches(value, options, n=1, cutoff=0.6)
     return f" (did you mean {close[0]!r}?)" if close else ""
-
-
-def iter_schema_rule_ids() -> Iterator[str]:
-    yield from ("schema/missing-key", "schema/unknown-key", "schema/wrong-type", "schema/value-not-allowed",
-                "schema/invalid-date", "schema/out-of-range", "schema/invalid-form")

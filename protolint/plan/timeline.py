@@ -73,12 +73,6 @@ def pool_sites(plan: Plan, pool_id: str) -> tuple[str, ...]:
     return pool.sites if pool.sites else tuple(site.id for site in plan.study.sites)
 
 
-def site_window(plan: Plan, site_id: str) -> RatingWindow:
-    whole = study_window(plan)
-    site = plan.study.site(site_id)
-    return RatingWindow(site.first_assessment or whole.first, whole.last)
-
-
 def add_months(day: date, months: int) -> date:
     """``day`` plus whole calendar months, clamped to the month's last day (31 Jan + 1 = 28/29 Feb)."""
     month_index = day.month - 1 + months
