@@ -1,8 +1,9 @@
 """The formulas behind the computed rules, against hand-worked and published values.
 
-The rules use the standard-library formulas in ``protolint/rules/_working.py`` (so that
-``protolint check`` loads neither numpy nor scipy); here they are also compared with the
-statistics core on the same inputs. Published values come from shared/REFERENCE_CHECKS.md,
+The rules take Spearman–Brown, Bonett's width and the SEM from the statistics core's
+closed-form modules, and compute the two-group sample size themselves with Guenther's
+correction (``protolint/rules/_working.py``; the core's exact solver needs scipy, which
+``protolint check`` must not load). That approximation is compared here with the exact core. Published values come from shared/REFERENCE_CHECKS.md,
 which names where each was seen; values recalled from memory say so.
 """
 
