@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -24,10 +25,16 @@ def demo_plan() -> Path:
     return DEMO_PLAN
 
 
+def filled_starter(text: str) -> str:
+    """The starter with every placeholder filled in, as a writer would: a clean plan."""
+    text = re.sub(r"Replace with [^,}\]\n#]*?(?=\s*[,}\]\n#])", "Filled in by the test", text)
+    return text.replace("REPLACE-WITH-PROTOCOL-ID", "TEST-PROTOCOL-1").replace("REPLACE-WITH-STUDY-ID", "TEST-STUDY-1")
+
+
 @pytest.fixture
 def starter_text() -> str:
-    """A clean, schema-valid plan to modify in tests."""
-    return STARTER_PLAN.read_text(encoding="utf-8")
+    """A clean, schema-valid plan to modify in tests: the starter with its placeholders filled in."""
+    return filled_starter(STARTER_PLAN.read_text(encoding="utf-8"))
 
 
 @pytest.fixture

@@ -15,8 +15,8 @@ from protolint.errors import ProtolintError
 def command(path: str, force: bool) -> None:
     """Write a commented starter measurement plan to PATH (default plan.yaml).
 
-    The starter plan is valid against the plan schema; every value in it is a placeholder to
-    replace with the trial's own.
+    The starter plan is valid against the plan schema, and 'protolint check' on it lists, section
+    by section, every placeholder still to replace (it fails until none is left).
 
     \b
     Example:
@@ -30,5 +30,5 @@ def command(path: str, force: bool) -> None:
         raise ProtolintError(f"{path}: already exists; use --force to overwrite it")
     starter = (templates_dir() / "starter-plan.yaml").read_text(encoding="utf-8")
     write_atomic(target, starter)
-    click.echo(f"protolint: wrote a starter plan to {path}; replace every placeholder, then run "
-               f"'protolint check {path}'", err=True)
+    click.echo(f"protolint: wrote a starter plan to {path}; 'protolint check {path}' "
+               "lists the placeholders still to replace", err=True)

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
-from typing import Iterator
+import dataclasses
+import re
+from typing import Any, Iterator
 
 from protolint.plan.model import Plan
 from protolint.rules.registry import Hit, RuleContext, rule
@@ -81,3 +83,73 @@ def plan_predates_amendment(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                       f"amendment {amendment.id} takes effect on {amendment.effective.isoformat()}, after the plan's date "
                       f"{plan.plan_date.isoformat()}; reissue the plan once it reflects the amendment",
                       {"amendment": amendment.id, "effective": amendment.effective.isoformat(), "plan_date": plan.plan_date.isoformat()})
+
+
+# Values that say the writer has not finished: the starter's own "Replace with …" text, and the
+# usual markers of a gap. Matched against the whole value (or its start), so that a real text
+# that merely mentions "todo" in a sentence is not reported.
+_STARTER_PLACEHOLDER = re.compile(r"^\s*replace[\s_-]+with\b", re.IGNORECASE)
+_GAP_MARKER = re.compile(r"^\s*(?:TBD|TBC|TBA|TODO|FIXME|XXX+)\b|^\s*\?{2,}\s*$|\bXXX+\b|\?{3,}", re.IGNORECASE)
+
+
+def _unfinished(value: str) -> str | None:
+    if not value.strip():
+        return "is empty"
+    if _STARTER_PLACEHOLDER.search(value):
+        return f"still holds the starter's placeholder '{_shorten(value)}'"
+    if _GAP_MARKER.search(value):
+        return f"is marked unfinished ('{_shorten(value)}')"
+    return None
+
+
+def _shorten(value: str, limit: int = 60) -> str:
+    value = " ".join(value.split())
+    return value if len(value) <= limit else value[: limit - 1] + "…"
+
+
+def _text_values(node: Any, label: tuple[str, ...]) -> Iterator[tuple[tuple[str | int, ...], tuple[str, ...], str]]:
+    """Every text value below ``node`` with its data path and a readable label (ids instead of
+    list positions, so the writer sees "instruments SCALE-1 evidence EVIDENCE-1 citation")."""
+    if not dataclasses.is_dataclass(node):
+        return
+    for field in dataclasses.fields(node):
+        if field.name == "path":
+            continue
+        value = getattr(node, field.name)
+        here = label + (field.name,)
+        if isinstance(value, str):
+            yield node.path + (field.name,), here, value
+        elif isinstance(value, tuple):
+            for index, item in enumerate(value):
+                if isinstance(item, str):
+                    yield node.path + (field.name, index), here, item
+                else:
+                    name = getattr(item, "id", None) or getattr(item, "kind", None)
+                    yield from _text_values(item, here + ((str(name) if name else f"#{index + 1}"),))
+        else:
+            yield from _text_values(value, here)
+
+
+@rule("documents/placeholder-value", "error", waivable=False,
+      source="common practice (a controlled document is not issued with blanks or placeholder text)")
+def placeholder_value(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """A value is still a placeholder or plainly unfinished (Replace with …, TBD, TODO, XXX, ???, empty).
+
+    `protolint init` writes a starter plan in which every text to fill in reads "Replace with
+    …"; a plan that still holds one of them, or a gap marker such as `TBD`, `TBC`, `TODO`,
+    `FIXME`, `XXX` or `???`, or a text that is empty or only spaces, is not finished, and the
+    documents rendered from it would print the gap. Each such value is reported at its line,
+    named by its section, so the writer can work through the plan from top to bottom. Numbers
+    and dates in the starter are examples that pass the format; the writer checks them too.
+    This check cannot be waived: a waiver would let a placeholder into a controlled document.
+
+    **Passes**: `title: Topical cream in moderate plaque psoriasis`.
+
+    **Fails**: `title: Replace with the full study title`, or `sponsor: TBD`.
+    """
+    for path, label, value in _text_values(plan, ()):
+        why = _unfinished(value)
+        if why is not None:
+            section, *rest = label
+            yield Hit(path, f"{section}: {' '.join(rest) or section} {why}; write the trial's own value",
+                      {"section": section, "value": value})
