@@ -8,6 +8,7 @@ from protolint.rules import (  # noqa: F401
     evidence_strength,
     evidence_transfer,
     monitoring,
+    monitoring_limits,
     power,
     raters,
     schedule,

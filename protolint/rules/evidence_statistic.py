@@ -231,3 +231,32 @@ def consistency_icc_rotating_raters(plan: Plan, ctx: RuleContext) -> Iterator[Hi
                               f"offsets, but for endpoint {endpoint.id} {' and '.join(reasons)}; cite an absolute-agreement ICC")
                     break
     yield from unique(hits())
+
+
+@rule("evidence/value-outside-interval", "error",
+      source="common practice (a point estimate lies inside its own confidence interval, lower bound first)")
+def value_outside_interval(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """A reported reliability lies outside its own confidence interval, or the interval's bounds are reversed.
+
+    Every interval these studies report contains its estimate; an estimate outside it, or a
+    lower bound above the upper one, is a transcription mistake, and every number worked out
+    from the record (the trial's reliability, the precision rules, the sample size) inherits
+    it. Check the figures against the publication.
+
+    **Passes**: `value: 0.85, ci: [0.78, 0.90]`.
+
+    **Fails**: `value: 0.85, ci: [0.88, 0.95]`, or `ci: [0.90, 0.78]`.
+    """
+    for instrument, evidence, _ in evidence_pairs(plan):
+        if not evidence.ci or len(evidence.ci) != 2:
+            continue
+        low, high = evidence.ci
+        if low > high:
+            problem = f"its interval is written upper bound first ({fmt(low)} to {fmt(high)})"
+        elif not low <= evidence.value <= high:
+            problem = f"the value {fmt(evidence.value)} lies outside its own interval {fmt(low)} to {fmt(high)}"
+        else:
+            continue
+        yield Hit(evidence.path + ("ci",),
+                  f"evidence {evidence.id} for {instrument.id}: {problem}; check the figures against the publication",
+                  {"evidence": evidence.id, "value": evidence.value, "ci": [low, high]})

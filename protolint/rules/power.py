@@ -212,3 +212,44 @@ def analysis_not_recomputed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
         yield Hit(size.path + ("endpoint",),
                   f"the sample size is for {endpoint.id}, analysed as {endpoint.analysis}; its reliability adjustment is not "
                   "recomputed here — ask the trial statistician to show how measurement error was allowed for")
+
+
+@rule("power/assumed-above-evidence", "warning", computed=True,
+      thresholds=[Threshold("tolerance", 0.02, "Amount by which the assumed reliability may exceed what the evidence supports before this is reported.", 0.0, 0.5)],
+      source="common practice (plan on the reliability the evidence supports for the trial's way of rating); "
+             "power loss from unreliability: Lachin JM (2004) Clin Trials 1(6):553-563, doi:10.1191/1740774504cn057oa")
+def assumed_above_evidence(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """The sample size assumes a higher reliability than the plan's own evidence supports.
+
+    The reliability written into the sample-size calculation (`assumed_reliability`) is the
+    figure reviewers and the documents quote. When it is above what the cited evidence
+    supports for the way the endpoint is rated (the least favourable fitting record, single-
+    rating value stepped up to the trial's raters, as in `evidence/below-group-threshold`) by
+    more than `tolerance`, the calculation is optimistic: the trial will see less
+    reliability, and so less power, than it claims. Whether the stated N is still enough is
+    `power/unadjusted-for-reliability`.
+
+    **Passes**: assumed 0.85, evidence ICC(2,1) 0.85 with one rater per assessment.
+
+    **Fails**: assumed 0.95, evidence ICC(2,1) 0.85 with one rater per assessment.
+    """
+    size = plan.sample_size
+    if size is None or size.assumed_reliability is None:
+        return
+    endpoint = plan.endpoint(size.endpoint)
+    found = trial_reliability(plan, endpoint)
+    if found is None:
+        return
+    tolerance = float(ctx.thresholds["tolerance"])
+    excess = size.assumed_reliability - found.reliability
+    if excess <= tolerance:
+        return
+    ratings = "one rating" if found.ratings == 1 else f"the mean of {found.ratings} ratings"
+    yield Hit(size.path + ("assumed_reliability",),
+              f"the sample size assumes a reliability of {fmt(size.assumed_reliability)}, but evidence {found.evidence.id} "
+              f"supports {fmt(found.reliability)} for {ratings} per assessment of endpoint {endpoint.id}; plan on the "
+              f"supported value, or cite evidence for the higher one — {PLANNING_AID}",
+              {"endpoint": endpoint.id, "assumed_reliability": size.assumed_reliability, "evidence": found.evidence.id,
+               "reliability": round(found.reliability, 4), "ratings_averaged": found.ratings,
+               "formula": "least favourable fitting evidence, single-rating value, Spearman-Brown to the trial's ratings",
+               "excess": round(excess, 4), "tolerance": tolerance})

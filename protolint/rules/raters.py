@@ -259,3 +259,57 @@ def confounded_with_arm(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
             yield Hit(pool.path + ("arm_assignment",),
                       f"raters of pool {pool.id} rate only one arm each, so rater effects are confounded with treatment; "
                       "assign raters across arms")
+
+
+# Coefficients on the scale of an ICC: weighted kappa with quadratic weights equals an ICC
+# (Fleiss & Cohen 1973), so its criterion can be compared with a planned reliability.
+def _icc_scale(coefficient: str | None) -> bool:
+    return bool(coefficient) and (coefficient.startswith("ICC") or coefficient == "weighted-kappa-quadratic")  # type: ignore[union-attr]
+
+
+@rule("raters/certification-laxer-than-planned", "warning", computed=True,
+      source="common practice (certify raters at least at the reliability the sample size assumes); "
+             "ICC and quadratic-weighted kappa on one scale: Fleiss JL, Cohen J (1973) Educ Psychol Meas 33(3):613-619, "
+             "doi:10.1177/001316447303300309")
+def certification_laxer_than_planned(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """The certification pass mark lets raters through who are less reliable than the sample size assumes.
+
+    The sample size rests on `assumed_reliability`: the reliability of the score the trial
+    analyses, which for one rating per assessment is a single rater's reliability. A
+    certification that passes a rater at a lower ICC (or quadratic-weighted kappa) admits
+    raters worse than the power calculation planned for, so the trial can be underpowered
+    with every rater certified. The assumed reliability is first stepped down to one rating
+    when the endpoint averages several (inverse Spearman–Brown). A plan that assumes perfect
+    reliability (1.0) is left to `power/assumed-above-evidence`.
+
+    **Passes**: pass mark ICC(2,1) ≥ 0.85, sample size assuming 0.85 with one rater per assessment.
+
+    **Fails**: pass mark ICC(2,1) ≥ 0.50, sample size assuming 0.85 with one rater per assessment.
+    """
+    from protolint.rules._working import PLANNING_AID, fmt, single_from_average
+    from protolint.rules.evidence_fit import trial_ratings
+
+    size = plan.sample_size
+    if size is None or size.assumed_reliability is None or not 0.0 < size.assumed_reliability < 1.0:
+        return
+    endpoint = plan.endpoint(size.endpoint)
+    pool = plan.pool(endpoint.rater_pool)
+    cert = pool.certification
+    criterion = cert.criterion if cert else None
+    if criterion is None or criterion.minimum is None or not _icc_scale(criterion.coefficient):
+        return
+    m = trial_ratings(endpoint)
+    planned = size.assumed_reliability
+    single = single_from_average(planned, m) if m > 1 else planned
+    if criterion.minimum >= single:
+        return
+    per_rating = "" if m == 1 else f", which for one of the {m} ratings averaged is {fmt(single)}"
+    yield Hit(criterion.path + ("minimum",),
+              f"rater pool {pool.id} certifies raters at {criterion.coefficient} ≥ {fmt(criterion.minimum)}, but the sample "
+              f"size of endpoint {endpoint.id} assumes a reliability of {fmt(planned)}{per_rating}; a certified rater can be "
+              f"less reliable than planned, so raise the pass mark to at least {fmt(single)} or plan the sample size on the "
+              f"pass mark — {PLANNING_AID}",
+              {"pool": pool.id, "endpoint": endpoint.id, "criterion": criterion.coefficient,
+               "pass_minimum": criterion.minimum, "assumed_reliability": planned, "ratings_averaged": m,
+               "formula": "single-rating reliability r1 = rm / (m - (m - 1) rm) (inverse Spearman-Brown)",
+               "assumed_single_rating": round(single, 4)})

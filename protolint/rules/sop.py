@@ -161,3 +161,85 @@ def not_in_force(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
             for sop in covering:
                 yield Hit(sop.path + ("status",), f"{sop.id} is {sop.status} but is the only SOP covering {instrument.id}; "
                                                   "issue an effective version")
+
+
+@rule("sop/approved-after-plan-date", "warning",
+      source="common practice (a plan records what is in force on its date; an approval not yet given is a planned one)")
+def approved_after_plan_date(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """An SOP counted as in force carries an approval dated after the plan itself.
+
+    The plan describes the procedures as they stand on its `plan_date`. An approval dated
+    later has not happened yet, so an SOP marked effective (or with no status) on the strength
+    of it is not yet approved, and every document rendered from the plan would say otherwise.
+    Mark such an SOP `draft` until it is approved, or reissue the plan after the approval.
+
+    **Passes**: plan dated 2026-07-15, approval dated 2026-07-20 of a draft SOP; or an effective SOP approved 2026-07-10.
+
+    **Fails**: plan dated 2026-07-15, an effective SOP approved 2026-07-20.
+    """
+    for sop in plan.sops:
+        if sop.status in ("draft", "superseded", "retired") or not sop.approvals:
+            continue
+        last = max(sop.approvals, key=lambda a: a.date)
+        if last.date > plan.plan_date:
+            yield Hit(last.path + ("date",),
+                      f"{sop.id} version {sop.version} counts as in force, but its approval by {last.name} is dated "
+                      f"{last.date.isoformat()}, {(last.date - plan.plan_date).days} days after the plan date "
+                      f"{plan.plan_date.isoformat()}; mark it draft until approved, or reissue the plan after the approval",
+                      {"sop": sop.id, "approved": last.date.isoformat(), "plan_date": plan.plan_date.isoformat()})
+
+
+@rule("sop/review-before-effective", "error",
+      source="ISO 9001:2015 Quality management systems, Requirements, clause 7.5.2 (review and approval of documented information); common practice for the order of the dates")
+def review_before_effective(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """An SOP's next review date falls before the version takes effect.
+
+    A review is due some time after a version comes into force; a review date earlier than
+    the effective date is a dating mistake (often the previous version's review date left in
+    place), and it makes the version look overdue from its first day (which
+    `sop/review-overdue` reports as well once the date has passed).
+
+    **Passes**: `effective: 2026-08-01`, `review_due: 2028-08-01`.
+
+    **Fails**: `effective: 2026-08-01`, `review_due: 2026-06-30`.
+    """
+    for sop in plan.sops:
+        if sop.review_due is not None and sop.review_due < sop.effective:
+            yield Hit(sop.path + ("review_due",),
+                      f"{sop.id} version {sop.version} is due for review on {sop.review_due.isoformat()}, "
+                      f"{(sop.effective - sop.review_due).days} days before it takes effect on {sop.effective.isoformat()}; "
+                      "set the review date of this version",
+                      {"sop": sop.id, "effective": sop.effective.isoformat(), "review_due": sop.review_due.isoformat()})
+
+
+@rule("sop/review-cycle-too-long", "warning",
+      thresholds=[Threshold("max_cycle_months", 36, "Longest interval between an SOP version taking effect and its next review.", 1, 120)],
+      source="common practice (periodic SOP review, commonly every two to three years); ISO 9001:2015 clause 7.5.2 (documented information reviewed for suitability)")
+def review_cycle_too_long(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """An SOP is not reviewed for years after it takes effect, or has no review date at all.
+
+    Practice, staff and the instrument's guidance change during a long trial; a procedure
+    that nobody reviews for more than `max_cycle_months` (or ever) drifts away from what raters
+    actually do. Drafts, superseded and retired versions are not judged.
+
+    **Passes**: `effective: 2026-08-01`, `review_due: 2028-08-01`.
+
+    **Fails**: `effective: 2026-08-01`, `review_due: 2031-08-01`, or no `review_due`.
+    """
+    from protolint.plan.timeline import add_months
+
+    months = int(ctx.thresholds["max_cycle_months"])
+    for sop in plan.sops:
+        if sop.status in ("draft", "superseded", "retired"):
+            continue
+        if sop.review_due is None:
+            yield Hit(sop.path + ("effective",), f"{sop.id} version {sop.version} has no review date; add review_due",
+                      {"sop": sop.id})
+            continue
+        latest = add_months(sop.effective, months)
+        if sop.review_due > latest:
+            yield Hit(sop.path + ("review_due",),
+                      f"{sop.id} version {sop.version} takes effect on {sop.effective.isoformat()} and is next reviewed on "
+                      f"{sop.review_due.isoformat()}, more than {months} months later; review it by {latest.isoformat()}",
+                      {"sop": sop.id, "effective": sop.effective.isoformat(), "review_due": sop.review_due.isoformat(),
+                       "max_cycle_months": months})

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from datetime import date
 from typing import Iterator
 
 from protolint.plan.model import Plan, RaterPool
@@ -172,3 +173,73 @@ def no_recertification_after_amendment(plan: Plan, ctx: RuleContext) -> Iterator
                               f"{amendment.effective.isoformat()}; recertify by that date",
                               {"rater": rater.id, "instrument": instrument_id, "amendment": amendment.id,
                                "amendment_effective": amendment.effective.isoformat(), "last_certified": latest.date.isoformat()})
+
+
+def _site_start(plan: Plan, pool: RaterPool, site_id: str) -> date | None:
+    from protolint.plan.timeline import endpoint_first_assessment
+
+    starts = [endpoint_first_assessment(plan, e, site_id) for e in plan.endpoints if e.rater_pool == pool.id]
+    return min(starts) if starts else None
+
+
+@rule("training/no-lead-time", "warning",
+      thresholds=[Threshold("min_lead_days", 7, "Fewest days between the end of training and a rater's first rating.", 0, 365)],
+      source="common practice (time between training and the first rating for certification, and for retraining and a second attempt after a failed one); "
+             "ICH E6(R3) Step 4 final guideline (6 January 2025) 2.3.2, staff trained before they perform delegated activities")
+def no_lead_time(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
+    """Raters are trained with no lead time before the first assessment they may rate.
+
+    Training that ends on the day of the first rating leaves no time to certify, to retrain a
+    rater who fails, or to certify a backup, so the first participants are rated by whoever
+    happens to pass on the day, or by nobody certified. A pool's
+    `training.days_before_first_rating` below `min_lead_days` (0 included) is reported. On the
+    roster, a rater's certification date is the latest sign that training was complete: it is
+    reported when it leaves less lead time than the pool's own `days_before_first_rating` before
+    the rater's `first_rating` (a certification after the first rating is
+    `raters/certified-after-first-rating`), or, for a rater with no `first_rating`, when it
+    falls after the site's first assessment.
+
+    **Passes**: `days_before_first_rating: 14`; rater certified 2026-08-10, first rating 2026-09-01.
+
+    **Fails**: `days_before_first_rating: 0`; or a rater certified 2026-08-28 with first rating 2026-09-01 and 14 days required.
+    """
+    min_lead = int(ctx.thresholds["min_lead_days"])
+    for pool in _people_pools(plan):
+        training = pool.training
+        lead = training.days_before_first_rating if training else None
+        if training is not None and lead is not None and lead < min_lead:
+            yield Hit(training.path + ("days_before_first_rating",),
+                      f"rater pool {pool.id} may finish training {_days(lead)} before a rater's first rating, fewer than "
+                      f"{_days(min_lead)}; leave time to certify, and to retrain a rater who fails, before the first assessment",
+                      {"pool": pool.id, "days_before_first_rating": lead, "min_lead_days": min_lead})
+        for rater in plan.roster:
+            if rater.pool != pool.id:
+                continue
+            for instrument_id in pool.instruments:
+                held = [c for c in rater.certifications if c.instrument == instrument_id]
+                if not held or not plan.instrument(instrument_id).is_rated_by_people:
+                    continue
+                first = min(held, key=lambda c: c.date)
+                if rater.first_rating is not None:
+                    gap = (rater.first_rating - first.date).days
+                    if lead is not None and 0 <= gap < lead:
+                        yield Hit(first.path + ("date",),
+                                  f"rater {rater.id} is certified on {instrument_id} on {first.date.isoformat()}, {_days(gap)} "
+                                  f"before their first rating on {rater.first_rating.isoformat()}, but pool {pool.id} requires "
+                                  f"training to end {_days(lead)} before",
+                                  {"rater": rater.id, "instrument": instrument_id, "certified": first.date.isoformat(),
+                                   "first_rating": rater.first_rating.isoformat(), "lead_days": gap, "required_days": lead})
+                elif rater.site is not None:
+                    start = _site_start(plan, pool, rater.site)
+                    if start is not None and first.date > start:
+                        yield Hit(first.path + ("date",),
+                                  f"rater {rater.id} at site {rater.site} is certified on {instrument_id} on "
+                                  f"{first.date.isoformat()}, after the site's first assessment on {start.isoformat()}; "
+                                  "give the rater's first_rating if they start later, or train them before the site starts",
+                                  {"rater": rater.id, "site": rater.site, "instrument": instrument_id,
+                                   "certified": first.date.isoformat(), "site_first_assessment": start.isoformat()})
+                break
+
+
+def _days(count: int) -> str:
+    return f"{count} day" if count == 1 else f"{count} days"
