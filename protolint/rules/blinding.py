@@ -5,11 +5,13 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, rule
 
 
 @rule("blinding/rater-knows-treatment", "error",
-      source="Hróbjartsson et al. 2013 (CMAJ 185:E201; non-blinded assessors exaggerated effects); ICH E9 2.3.1")
+      source=cite(f"{S.HROBJARTSSON_2013} (nonblinded assessors exaggerated the effect on measurement scales)", f"{S.HROBJARTSSON_2012} (the same for binary outcomes)"))
 def rater_knows_treatment(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Raters of an endpoint are not blinded to treatment and nothing mitigates it.
 
@@ -36,7 +38,7 @@ def rater_knows_treatment(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("blinding/prior-scores-visible", "warning",
-      source="COSMIN Risk of Bias checklist, reliability standards 4-5 (Mokkink et al. 2020); common practice in trial data capture")
+      source=cite(f"{S.COSMIN_RISK_OF_BIAS_2020}, design standards 4 and 5 (scores assigned without knowledge of the other repeated measurements)", "keeping earlier scores out of view in data capture: common practice"))
 def prior_scores_visible(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Raters of a repeated rating may see the participant's earlier scores.
 
@@ -63,7 +65,7 @@ _CLINICAL_ROLES = ("treating-clinician", "investigator", "safety-assessor", "dis
 
 
 @rule("blinding/rater-has-clinical-role", "warning",
-      source="Hróbjartsson et al. 2012, BMJ 344:e1119 and 2013, CMAJ 185:E201 (observer bias); role separation: common practice")
+      source=cite(f"{S.HROBJARTSSON_2012} (observer bias)", f"{S.HROBJARTSSON_2013}", "separating the rating role from care: common practice"))
 def rater_has_clinical_role(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Raters also treat, dispense to, or assess the safety of the participants they rate.
 
@@ -85,7 +87,7 @@ def rater_has_clinical_role(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("blinding/no-unblinding-procedure", "warning",
-      source="ICH E6(R3) 4.1 and 3.16.1(g) (unblinding documented and its impact assessed)")
+      source=cite(f"{S.E6}, Annex 1 section 2.5.3 (deviations documented; important ones explained and their recurrence prevented)", "the unblinding procedure itself: common practice"))
 def no_unblinding_procedure(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Nothing says what happens when a rater becomes unblinded.
 
@@ -110,7 +112,7 @@ def no_unblinding_procedure(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("blinding/eligibility-rated-unconfirmed", "note",
-      source="Kobak et al. 2010, J Clin Psychopharmacol (site versus central ratings at entry) [author list from memory]; common practice")
+      source=cite(f"{S.KOBAK_2010} (site raters scored higher than central raters at entry; 35% of those entered on a site score were below the cut-off by the central score)", "confirming eligibility ratings: common practice"))
 def eligibility_rated_unconfirmed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Site raters who know the entry cut-off rate eligibility, with no independent confirmation.
 

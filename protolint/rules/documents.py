@@ -7,10 +7,12 @@ import re
 from typing import Any, Iterator
 
 from protolint.plan.model import Plan
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, rule
 
 
-@rule("documents/no-protocol-version", "warning", source="SPIRIT 2013 item 3 (protocol version and date)")
+@rule("documents/no-protocol-version", "warning", source=f"{S.SPIRIT_2013}, item 3 (date and version identifier)")
 def no_protocol_version(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The plan is not bound to a protocol version and date.
 
@@ -29,7 +31,7 @@ _EXPECTED_DEVIATIONS = ("uncertified-rater", "unplanned-rater-change", "out-of-w
 
 
 @rule("documents/deviations-incomplete", "warning",
-      source="ICH E6(R3) 2.5.3 (deviations documented, important ones explained, recurrence prevented); the list of rating deviations is common practice")
+      source=cite(f"{S.E6}, Annex 1 section 2.5.3 (deviations documented; important ones explained and their recurrence prevented)", "the list of rating deviations: common practice"))
 def deviations_incomplete(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The plan does not define the usual rating deviations, or leaves their importance open.
 
@@ -60,7 +62,7 @@ def deviations_incomplete(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("documents/plan-predates-amendment", "warning", computed=True,
-      source="SPIRIT 2013 item 3 (protocol version and date); common practice (plans revised with each amendment)")
+      source=cite(f"{S.SPIRIT_2013}, item 3 (date and version identifier)", "revising the plan with each amendment: common practice"))
 def plan_predates_amendment(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The plan is dated before the protocol version or an amendment it lists.
 

@@ -23,11 +23,13 @@ from protolint.rules.evidence_fit import (
     unique,
 )
 from protolint.rules._working import PLANNING_AID, fmt
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, rule
 
 
 @rule("evidence/kappa-for-interval-score", "error",
-      source="Mokkink et al. 2020, BMC Med Res Methodol 20:293, COSMIN Risk of Bias tool, reliability box, statistical standards (ICC for continuous scores)")
+      source=f"{S.COSMIN_RISK_OF_BIAS_2020}, standards on the preferred statistical methods for reliability (an ICC for continuous scores)")
 def kappa_for_interval_score(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A kappa statistic is offered as reliability evidence for a continuous score.
 
@@ -47,7 +49,7 @@ def kappa_for_interval_score(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("evidence/alpha-as-rater-evidence", "error",
-      source="Mokkink et al. 2010 COSMIN taxonomy (internal consistency and reliability are distinct properties); Mokkink et al. 2020, COSMIN Risk of Bias tool")
+      source=cite(f"{S.COSMIN_CHECKLIST_2010} (internal consistency and reliability are separate measurement properties)", f"{S.COSMIN_RISK_OF_BIAS_2020}"))
 def alpha_as_rater_evidence(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Internal consistency (Cronbach's alpha) is offered where rater or retest agreement is needed.
 
@@ -78,7 +80,7 @@ def alpha_as_rater_evidence(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("evidence/correlation-as-agreement", "warning",
-      source="Bland & Altman 1986, Lancet i:307 (correlation is not agreement); Mokkink et al. 2020, COSMIN Risk of Bias tool (correlation adequate only without systematic change)")
+      source=cite(f"{S.BLAND_ALTMAN_1986} (correlation is not agreement)", f"{S.COSMIN_RISK_OF_BIAS_2020}, standards on the preferred statistical methods for reliability"))
 def correlation_as_agreement(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A correlation is offered as agreement between raters or occasions.
 
@@ -101,7 +103,7 @@ def correlation_as_agreement(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("evidence/unweighted-kappa-ordinal", "note",
-      source="Mokkink et al. 2020, COSMIN Risk of Bias tool (weighted kappa with the weighting scheme stated for ordinal scores)")
+      source=f"{S.COSMIN_RISK_OF_BIAS_2020}, standards on the preferred statistical methods for reliability (weighted kappa, with its weights stated, for ordinal scores)")
 def unweighted_kappa_ordinal(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An ordinal score is supported by unweighted kappa, or by weighted kappa with unstated weights.
 
@@ -127,7 +129,7 @@ def unweighted_kappa_ordinal(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("evidence/icc-form-unstated", "warning",
-      source="Koo & Li 2016, J Chiropr Med 15:155 (report model, type and definition); Shrout & Fleiss 1979, Psychol Bull 86:420")
+      source=cite(f"{S.KOO_LI_2016} (report the model, type and definition of an ICC)", f"{S.SHROUT_FLEISS_1979}"))
 def icc_form_unstated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An ICC is quoted without its form.
 
@@ -147,7 +149,7 @@ def icc_form_unstated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("evidence/average-icc-for-single-rating", "error", computed=True,
-      source="Shrout & Fleiss 1979, Psychol Bull 86:420 (single versus mean-of-k ICC; the k form is the Spearman–Brown step-up)")
+      source=f"{S.SHROUT_FLEISS_1979} (one rating versus the mean of k ratings; the k form is the Spearman-Brown step-up of the single form)")
 def average_icc_for_single_rating(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An average-of-k ICC is quoted for a trial that averages fewer ratings.
 
@@ -200,7 +202,7 @@ def single_from(value: float, k: int) -> float:
 
 
 @rule("evidence/consistency-icc-rotating-raters", "warning",
-      source="McGraw & Wong 1996, Psychol Methods 1:30 (consistency versus absolute agreement) [from memory]; Koo & Li 2016, J Chiropr Med 15:155")
+      source=cite(f"{S.MCGRAW_WONG_1996} (consistency and absolute-agreement ICCs)", f"{S.WEIR_2005} (ICC(2,·) counts systematic differences between raters as error, ICC(3,·) does not)", f"{S.KOO_LI_2016}"))
 def consistency_icc_rotating_raters(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A consistency ICC is quoted where raters differ between participants or visits, or cut-offs apply.
 

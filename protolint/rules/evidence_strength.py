@@ -27,6 +27,8 @@ from protolint.rules.evidence_fit import (
     unique,
 )
 from protolint.rules._working import PLANNING_AID, fmt
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 _GROUP_MIN = Threshold("min_reliability", 0.70, "Lowest reliability accepted for scores used only to compare groups.", 0.0, 1.0)
@@ -38,7 +40,7 @@ def _key_endpoints(endpoints: tuple[Endpoint, ...]) -> tuple[Endpoint, ...]:
 
 
 @rule("evidence/none-for-endpoint", "error",
-      source="ICH E9 (1998) 2.2.2 (primary variable reliable in the trial population); SPIRIT 2013 item 18a")
+      source=cite(f"{S.ICH_E9}, section 2.2.2 (the primary variable reliable and valid in the trial population)", f"{S.LACHIN_2004} (the reliability of the outcome and eligibility measures is a prime consideration in choosing them)"))
 def none_for_endpoint(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A primary or key secondary endpoint rests on an instrument with no reproducibility evidence.
 
@@ -90,7 +92,7 @@ def _threshold_hits(plan: Plan, ctx: RuleContext, individual: bool) -> Iterator[
 
 
 @rule("evidence/below-group-threshold", "warning", thresholds=[_GROUP_MIN],
-      source="Nunnally & Bernstein 1994, Psychometric Theory, ch. 7 (about 0.70 for group research); COSMIN criteria, Prinsen et al. 2018 (ICC or weighted kappa >= 0.70)")
+      source=cite(f"{S.NUNNALLY_BERNSTEIN_1994} (about 0.70 for research comparing groups)", f"{S.COSMIN_GUIDELINE_2018} (criteria for good measurement properties: ICC or weighted kappa of at least 0.70)"))
 def below_group_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The reliability the evidence supports for a group comparison is below the minimum.
 
@@ -109,7 +111,7 @@ def below_group_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("evidence/below-individual-threshold", "warning", thresholds=[_INDIVIDUAL_MIN],
-      source="Nunnally & Bernstein 1994, Psychometric Theory, ch. 7 (0.90 minimum, 0.95 desirable, for decisions about individuals)")
+      source=f"{S.NUNNALLY_BERNSTEIN_1994} (at least 0.90, and 0.95 desirable, when scores decide about individuals)")
 def below_individual_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Scores decide about individual participants but their reliability is below the minimum.
 
@@ -128,7 +130,7 @@ def below_individual_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 @rule("evidence/lower-bound-below-threshold", "note",
       thresholds=[Threshold("group_minimum", 0.70, "Minimum for group comparisons, applied to the lower confidence bound.", 0.0, 1.0),
                   Threshold("individual_minimum", 0.90, "Minimum for decisions about individuals, applied to the lower confidence bound.", 0.0, 1.0)],
-      source="Koo & Li 2016, J Chiropr Med 15:155 (judge an ICC by its 95 % interval); Kottner et al. 2011, GRRAS item 13")
+      source=cite(f"{S.KOO_LI_2016} (judge an ICC by its 95% confidence interval)", f"{S.GRRAS_2011}, item 13 (estimates with their statistical uncertainty)"))
 def lower_bound_below_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The evidence's confidence interval reaches below the reliability the trial needs.
 
@@ -174,7 +176,7 @@ def lower_bound_below_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 @rule("evidence/study-too-small", "warning", computed=True,
       thresholds=[Threshold("min_subjects", 30, "Fewest subjects a reliability study should have rated.", 2, 10000),
                   Threshold("max_ci_width", 0.30, "Widest acceptable 95 % interval of an ICC, as planned with Bonett's formula.", 0.01, 1.0)],
-      source="Bonett 2002, Stat Med 21:1331 (interval width of an ICC from subjects, raters and the estimate); Mokkink et al. 2020 (COSMIN sample-size standard); 30 subjects: common practice")
+      source=cite(f"{S.BONETT_2002} (expected width of the 95% interval of an ICC from subjects, raters and the estimate)", "30 subjects at least: common practice"))
 def study_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A reliability study rated too few subjects to pin its estimate down.
 
@@ -222,7 +224,7 @@ _CHANGE_CUTOFFS = ("responder", "dose-change", "withdrawal", "safety-stop")
 
 
 @rule("evidence/error-exceeds-threshold", "warning", computed=True,
-      source="Mokkink et al. 2020, COSMIN Risk of Bias tool, measurement-error standards (SEM, SDC); de Vet et al. 2006, Health Qual Life Outcomes 4:54 (SDC = 1.96 x sqrt(2) x SEM); Weir 2005, J Strength Cond Res 19:231")
+      source=cite(f"{S.DE_VET_2006} (smallest detectable change, distinct from the minimal important change)", f"{S.WEIR_2005} (SEM from the ICC; the smallest difference that shows a real change in one person)", f"{S.COSMIN_RISK_OF_BIAS_2020}, standards on measurement error"))
 def error_exceeds_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A responder or decision threshold is smaller than the score's measurement error.
 

@@ -12,6 +12,8 @@ from typing import Iterator
 from protolint.plan.model import Endpoint, Evidence, Instrument, Plan
 from protolint.rules.evidence_fit import REPEATED_TYPES, evidence_pairs, same_text, unique
 from protolint.rules._working import fmt
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 
@@ -20,7 +22,7 @@ def _repeated(evidence: Evidence) -> bool:
 
 
 @rule("evidence/population-differs", "warning",
-      source="Kottner et al. 2011, J Clin Epidemiol 64:96, GRRAS item 3; Mulsant et al. 2002, Am J Psychiatry 159:1598 (ICC depends on the range of patients rated); ICH E9 2.2.2")
+      source=cite(f"{S.GRRAS_2011}, item 3 (the subject population)", f"{S.MULSANT_2002} (ICCs are higher when the patients rated span the full range)", f"{S.ICH_E9}, section 2.2.2 (the primary variable reliable and valid in the trial population)"))
 def population_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Reliability evidence comes from another population than the trial's, or the population is not described.
 
@@ -56,7 +58,7 @@ def population_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 @rule("evidence/rater-type-differs", "warning",
       thresholds=[Threshold("expert_years", 5, "Years of experience below which a pool's raters are not comparable with the experts of an evidence study.", 0, 40)],
-      source="Kottner et al. 2011, J Clin Epidemiol 64:96, GRRAS items 4 and 12 (rater population, training and experience)")
+      source=f"{S.GRRAS_2011}, items 4 and 12 (the rater population; the raters' training and experience)")
 def rater_type_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Raters in the evidence study differ from the raters the trial qualifies.
 
@@ -111,7 +113,7 @@ def _trial_mode(instrument: Instrument, endpoint: Endpoint) -> str | None:
 
 
 @rule("evidence/administration-differs", "warning",
-      source="FDA 2009 PRO guidance (a changed mode of administration needs evidence that measurement properties hold); Mokkink et al. 2020, COSMIN Risk of Bias tool, design standard on similar measurement conditions")
+      source=cite(f"{S.FDA_PRO_2009} (a changed mode of administration needs evidence that the measurement properties hold)", f"{S.COSMIN_RISK_OF_BIAS_2020}, design standard 3 (similar measurement conditions)"))
 def administration_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Reliability evidence was obtained with another mode of administration than the trial uses.
 
@@ -140,7 +142,7 @@ def administration_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("evidence/version-differs", "warning",
-      source="FDA 2009 PRO guidance (modified instruments need evidence that measurement properties are preserved); Kottner et al. 2011, GRRAS item 2")
+      source=cite(f"{S.FDA_PRO_2009} (a modified instrument needs evidence that its measurement properties are preserved)", f"{S.GRRAS_2011}, item 2 (the instrument named and described)"))
 def version_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Reliability evidence was obtained with another version or language of the instrument.
 

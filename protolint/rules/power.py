@@ -13,13 +13,15 @@ from typing import Iterator
 from protolint.plan.model import Plan
 from protolint.rules.evidence_fit import individual_use, trial_reliability, true_effect_size
 from protolint.rules._working import PLANNING_AID, fmt
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 _RECOMPUTED = ("two-group-difference",)
 
 
 @rule("power/reliability-not-stated", "warning",
-      source="Lachin 2004, Clin Trials 1:553 (reliability limits power; report it); Müller & Szegedi 2002, J Clin Psychopharmacol 22:318")
+      source=cite(f"{S.LACHIN_2004} (report the reliability of the outcome as the power is reported)", f"{S.MULLER_SZEGEDI_2002} (use empirical reliability, not an assumed perfect one)"))
 def reliability_not_stated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The sample-size calculation does not state the reliability it assumed or where its effect size comes from.
 
@@ -49,7 +51,7 @@ def reliability_not_stated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 @rule("power/unadjusted-for-reliability", "error", computed=True,
       thresholds=[Threshold("tolerance", 0, "Participants by which the stated total may fall short before this is reported.", 0, 1000)],
-      source="Lachin 2004, Clin Trials 1:553; Müller & Szegedi 2002, J Clin Psychopharmacol 22:318; Leon, Marzuk & Portera 1995, Arch Gen Psychiatry 52:867; Guenther 1981, Am Stat 35:243 (t-test correction) [from memory]")
+      source=cite(f"{S.LACHIN_2004}", f"{S.MULLER_SZEGEDI_2002}", f"{S.GUENTHER_1981} (the small-sample correction of the normal-approximation N)"))
 def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The stated sample size is too small for the reliability the evidence supports.
 
@@ -131,7 +133,7 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 @rule("power/fewer-raters-than-needed", "warning", computed=True,
       thresholds=[Threshold("target_reliability", 0.80, "Reliability an endpoint that compares groups should reach.", 0.5, 0.99),
                   Threshold("individual_target", 0.90, "Reliability an endpoint that decides about individuals should reach.", 0.5, 0.99)],
-      source="Spearman 1910 and Brown 1910 (prophecy formula); Shrout & Fleiss 1979, Psychol Bull 86:420 (mean-of-k ICC)")
+      source=f"{S.SHROUT_FLEISS_1979} (the mean of k raters has the Spearman-Brown step-up of the single-rating ICC)")
 def fewer_raters_than_needed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Fewer independent raters per assessment than Spearman–Brown says the target reliability needs.
 
@@ -170,7 +172,7 @@ def fewer_raters_than_needed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("power/non-independent-averaging", "warning",
-      source="Kottner et al. 2011, J Clin Epidemiol 64:96, GRRAS item 9 (independence of ratings); Mokkink et al. 2020, COSMIN Risk of Bias tool, standards 4-5")
+      source=cite(f"{S.GRRAS_2011}, item 9 (whether ratings were made independently)", f"{S.COSMIN_RISK_OF_BIAS_2020}, design standards 4 and 5"))
 def non_independent_averaging(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Several raters per assessment are planned, but their ratings are not independent.
 
@@ -191,7 +193,7 @@ def non_independent_averaging(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("power/analysis-not-recomputed", "note",
-      source="Lachin 2004, Clin Trials 1:553; the attenuation arithmetic covers only a comparison of two means (common practice to refer others to the statistician)")
+      source=cite(f"{S.LACHIN_2004}", "referring other analyses to the trial statistician: common practice"))
 def analysis_not_recomputed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The sample size is for an analysis whose reliability adjustment the rules do not recompute.
 
@@ -216,8 +218,7 @@ def analysis_not_recomputed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 @rule("power/assumed-above-evidence", "warning", computed=True,
       thresholds=[Threshold("tolerance", 0.02, "Amount by which the assumed reliability may exceed what the evidence supports before this is reported.", 0.0, 0.5)],
-      source="common practice (plan on the reliability the evidence supports for the trial's way of rating); "
-             "power loss from unreliability: Lachin JM (2004) Clin Trials 1(6):553-563, doi:10.1191/1740774504cn057oa")
+      source=cite("common practice (plan on the reliability the evidence supports for the trial's way of rating)", f"{S.LACHIN_2004} (power declines with reliability)"))
 def assumed_above_evidence(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The sample size assumes a higher reliability than the plan's own evidence supports.
 

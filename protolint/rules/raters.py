@@ -6,11 +6,13 @@ from typing import Iterator
 
 from protolint.plan.model import Plan, RaterCertification
 from protolint.plan.timeline import certification_expiry
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 
 @rule("raters/no-certification-criterion", "error",
-      source="ICH E6(R3) 2.3.2 (trial-specific training of delegated staff); common practice for certification against reference cases")
+      source=cite(f"{S.E6}, Annex 1 section 2.3.2 (training corresponds to the delegated trial activities)", "certification against reference cases with a pass mark: common practice"))
 def no_certification_criterion(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater pool has no measurable certification pass criterion.
 
@@ -44,7 +46,7 @@ def _people_pools(plan: Plan):
 
 
 @rule("raters/no-qualifications", "error",
-      source="ICH E6(R3) principle 5.1 and 2.3.2 (staff qualified by education, training and experience); Kobak et al. 2004, J Clin Psychopharmacol (credentials alone do not ensure rating skill)")
+      source=cite(f"{S.E6}, principle 5.1 (individuals qualified by education, training and experience)", f"{S.KOBAK_2004} (academic credentials alone do not ensure rating competence)"))
 def no_qualifications(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater pool has no written minimum qualifications.
 
@@ -65,7 +67,7 @@ def no_qualifications(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("raters/unqualified-rater", "error",
-      source="ICH E6(R3) 2.3.2 (delegated staff are qualified for their tasks)")
+      source=cite(f"{S.E6}, principle 5.1 (individuals qualified by education, training and experience)", "Annex 1 section 2.3.2 (delegated staff appropriately qualified)"))
 def unqualified_rater(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater on the roster does not meet the qualifications of their pool.
 
@@ -96,7 +98,7 @@ def _certifications(plan: Plan, rater, instrument_id: str):
 
 
 @rule("raters/certified-after-first-rating", "error", computed=True,
-      source="ICH E6(R3) Appendix C (trial-specific training records in place before the activity); ICH E6(R3) 2.3.2")
+      source=f"{S.E6}, Appendix C, essential records table (trial-specific training records and the delegation of activities in place before the trial starts) and Annex 1 section 2.3.2")
 def certified_after_first_rating(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater rates before being certified on an instrument of their pool.
 
@@ -132,7 +134,7 @@ def certified_after_first_rating(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("raters/certification-expired", "error", computed=True,
-      source="common practice (certification valid for a stated interval, typically a year); ICH E6(R3) 2.3.2")
+      source=cite("common practice (certification valid for a stated interval, often a year)", f"{S.E6}, Annex 1 section 2.3.2"))
 def certification_expired(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater's latest certification has expired as of the check date.
 
@@ -162,7 +164,7 @@ def certification_expired(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("raters/certified-on-other-version", "warning",
-      source="ICH E6(R3) 2.3.2 (training matches the activities as currently specified)")
+      source=f"{S.E6}, Annex 1 section 2.3.2 (training corresponds to the delegated trial activities)")
 def certified_on_other_version(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater's certification names another version of the instrument than the trial uses.
 
@@ -184,7 +186,7 @@ def certified_on_other_version(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("raters/continuity-unstated", "warning",
-      source="common practice (the same rater follows a participant); between-rater variance in change scores: Mulsant et al. 2002, Am J Psychiatry 159:1598")
+      source=cite("common practice (the same rater follows a participant)", f"{S.MULSANT_2002} (differences between raters enter the scores when different raters rate)"))
 def continuity_unstated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A repeatedly rated endpoint does not keep the same rater per participant, or has no fallback.
 
@@ -243,7 +245,7 @@ def no_turnover_plan(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("raters/confounded-with-arm", "warning",
-      source="ICH E6(R2) 5.23.4 (uniform assessment standards); common practice (raters balanced across arms)")
+      source="common practice (raters balanced across arms, so that a rater's offset cannot pass for a treatment effect)")
 def confounded_with_arm(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Raters rate participants of one treatment arm only.
 
@@ -268,9 +270,7 @@ def _icc_scale(coefficient: str | None) -> bool:
 
 
 @rule("raters/certification-laxer-than-planned", "warning", computed=True,
-      source="common practice (certify raters at least at the reliability the sample size assumes); "
-             "ICC and quadratic-weighted kappa on one scale: Fleiss JL, Cohen J (1973) Educ Psychol Meas 33(3):613-619, "
-             "doi:10.1177/001316447303300309")
+      source="common practice (certify raters at least at the reliability the sample size assumes; a quadratic-weighted kappa read on the ICC scale)")
 def certification_laxer_than_planned(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The certification pass mark lets raters through who are less reliable than the sample size assumes.
 

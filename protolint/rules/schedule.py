@@ -5,6 +5,8 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, rule
 
 
@@ -13,7 +15,7 @@ def _rated_visit_ids(plan: Plan) -> set[str]:
 
 
 @rule("schedule/no-visit-window", "warning",
-      source="common practice (visit windows in the schedule of assessments); deviations: ICH E6(R3) 2.5.3")
+      source=cite("common practice (visit windows in the schedule of assessments)", f"{S.E6}, Annex 1 section 2.5.3 (deviations documented)"))
 def no_visit_window(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rated follow-up visit has no allowed window.
 
@@ -38,7 +40,7 @@ def no_visit_window(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("schedule/out-of-window-unhandled", "warning",
-      source="ICH E6(R3) 2.5.3 (deviations documented and explained); common practice")
+      source=cite(f"{S.E6}, Annex 1 section 2.5.3 (deviations documented; important ones explained)", "common practice"))
 def out_of_window_unhandled(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The plan does not say what happens to a rating made outside its visit window.
 
@@ -56,7 +58,7 @@ def out_of_window_unhandled(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("schedule/rating-before-raters-ready", "error", computed=True,
-      source="ICH E6(R3) Appendix C (training records in place before trial activities start)")
+      source=f"{S.E6}, Appendix C, essential records table (trial-specific training records in place before the trial starts)")
 def rating_before_raters_ready(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A site starts rating an instrument before any of its rostered raters is certified on it.
 

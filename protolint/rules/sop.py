@@ -6,11 +6,13 @@ from typing import Iterator
 
 from protolint.plan.model import Plan
 from protolint.plan.timeline import instrument_first_assessment
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 
 @rule("sop/instrument-not-covered", "error",
-      source="ICH E6(R2) 5.23.4 (uniform assessment standards across sites); ISO 9001:2015 7.5 (controlled documents)")
+      source=cite(f"{S.ISO_9001}, clause 7.5 (documented information the system needs, created, approved and controlled)", f"{S.E6}, Appendix C section C.1.3 (records identifiable and version controlled)"))
 def instrument_not_covered(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rated instrument is covered by no SOP.
 
@@ -32,7 +34,7 @@ def instrument_not_covered(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("sop/effective-too-late", "error",
-      source="ICH E6(R3) Appendix C (essential records in place before the trial starts); common practice")
+      source=cite(f"{S.E6}, Appendix C, essential records table (records marked to be in place before the trial starts)", "common practice"))
 def effective_too_late(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An SOP takes effect after the first planned assessment it governs.
 
@@ -59,7 +61,7 @@ def effective_too_late(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("sop/review-overdue", "warning",
-      source="ISO 9001:2015 7.5.2-7.5.3 (review and update of documented information); common practice for the cycle length",
+      source=cite(f"{S.ISO_9001}, clause 7.5.2 (review and approval for suitability and adequacy)", "the length of the review cycle: common practice"),
       thresholds=[Threshold("due_soon_days", 60, "Days before the review date from which a note says the review is due soon.", 0, 365)])
 def review_overdue(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An SOP's periodic review date has passed.
@@ -92,7 +94,7 @@ def review_overdue(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("sop/approval-incomplete", "error",
-      source="ICH E6(R3) Appendix C (authors, reviewers and approvers with dates and signatures); 21 CFR 11.50 (meaning of a signature); ISO 9001:2015 7.5.2")
+      source=cite(f"{S.E6}, Appendix C section C.1.3 (authors, reviewers and approvers, with date and signature)", f"{S.CFR_PART_11}(a)(3) (the meaning of a signature, such as review or approval)", f"{S.ISO_9001}, clause 7.5.2(c)"))
 def approval_incomplete(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An SOP in use has no owner, no approval, or an approval without role or meaning.
 
@@ -118,7 +120,7 @@ def approval_incomplete(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("sop/approved-after-effective", "error", computed=True,
-      source="ISO 9001:2015 7.5.2 (documents approved before release); ICH E6(R3) Appendix C")
+      source=cite(f"{S.ISO_9001}, clause 7.5.2(c) (review and approval for suitability and adequacy)", f"{S.E6}, Appendix C section C.1.3"))
 def approved_after_effective(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An SOP takes effect before it was approved.
 
@@ -141,7 +143,7 @@ def approved_after_effective(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("sop/not-in-force", "error",
-      source="ISO 9001:2015 7.5.3.2 (prevent unintended use of obsolete documented information); ICH E6(R3) Appendix C")
+      source=f"{S.ISO_9001}, clause 7.5.3.2(e) (prevent the unintended use of obsolete documented information)")
 def not_in_force(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rated instrument is covered only by SOPs that are drafts, superseded or retired.
 
@@ -190,7 +192,7 @@ def approved_after_plan_date(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("sop/review-before-effective", "error",
-      source="ISO 9001:2015 Quality management systems, Requirements, clause 7.5.2 (review and approval of documented information); common practice for the order of the dates")
+      source=cite(f"{S.ISO_9001}, clause 7.5.2 (review and approval of documented information)", "the order of the dates: common practice"))
 def review_before_effective(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An SOP's next review date falls before the version takes effect.
 
@@ -214,7 +216,7 @@ def review_before_effective(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 @rule("sop/review-cycle-too-long", "warning",
       thresholds=[Threshold("max_cycle_months", 36, "Longest interval between an SOP version taking effect and its next review.", 1, 120)],
-      source="common practice (periodic SOP review, commonly every two to three years); ISO 9001:2015 clause 7.5.2 (documented information reviewed for suitability)")
+      source=cite("common practice (SOPs reviewed periodically, commonly every two to three years)", f"{S.ISO_9001}, clause 7.5.2 (review for suitability and adequacy)"))
 def review_cycle_too_long(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An SOP is not reviewed for years after it takes effect, or has no review date at all.
 

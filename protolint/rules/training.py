@@ -7,6 +7,8 @@ from typing import Iterator
 
 from protolint.plan.model import Plan, RaterPool
 from protolint.rules._working import PLANNING_AID, fmt
+from protolint.rules import sources as S
+from protolint.rules.sources import cite
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 # Amendment changes that alter what a rater does; a change of rated visits alone does not.
@@ -18,7 +20,7 @@ def _people_pools(plan: Plan) -> list[RaterPool]:
 
 
 @rule("training/no-training-plan", "error",
-      source="ICH E6(R3) 2.3.2 (trial-specific training for delegated tasks); SPIRIT 2013 item 18a (assessor training)")
+      source=f"{S.E6}, Annex 1 section 2.3.2 (trial-related training corresponding to the delegated activities)")
 def no_training_plan(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater pool has no initial training, or its training has no content.
 
@@ -70,7 +72,7 @@ def _certification_rho(pool: RaterPool, assumed: float) -> tuple[float, str]:
       thresholds=[Threshold("min_cases", 10, "Fewest reference cases a certification should use.", 1, 1000),
                   Threshold("max_ci_width", 0.40, "Widest acceptable 95 % interval of one rater's agreement with the reference.", 0.01, 1.0),
                   Threshold("assumed_icc", 0.80, "Agreement assumed when the plan gives neither expected_icc nor an ICC criterion.", 0.0, 0.99)],
-      source="Bonett 2002, Stat Med 21:1331 (interval width of an ICC); Walter, Eliasziw & Donner 1998, Stat Med 17:101; default width: common practice")
+      source=cite(f"{S.BONETT_2002} (expected width of the interval of an ICC)", f"{S.WALTER_1998}", "the default width: common practice"))
 def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Certification uses too few reference cases to tell a good rater from a poor one.
 
@@ -112,7 +114,7 @@ def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("training/no-records", "error",
-      source="ICH E6(R3) Appendix C (trial-specific training records and delegation documentation are essential records)")
+      source=f"{S.E6}, Appendix C, essential records table (trial-specific training records and the documentation of delegation)")
 def no_records(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """The plan does not say how training and certification are recorded.
 
@@ -131,7 +133,7 @@ def no_records(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("training/no-recertification-after-amendment", "error", computed=True,
-      source="ICH E6(R3) 2.3.2 (training matches the activities as currently specified); FDA 2009 PRO guidance (modified instruments)")
+      source=cite(f"{S.E6}, Annex 1 section 2.3.2 (training corresponds to the delegated trial activities)", f"{S.FDA_PRO_2009} (modified instruments)"))
 def no_recertification_after_amendment(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """An amendment changes how a rated instrument is administered or scored, and raters are not recertified by its date.
 
@@ -184,8 +186,7 @@ def _site_start(plan: Plan, pool: RaterPool, site_id: str) -> date | None:
 
 @rule("training/no-lead-time", "warning",
       thresholds=[Threshold("min_lead_days", 7, "Fewest days between the end of training and a rater's first rating.", 0, 365)],
-      source="common practice (time between training and the first rating for certification, and for retraining and a second attempt after a failed one); "
-             "ICH E6(R3) Step 4 final guideline (6 January 2025) 2.3.2, staff trained before they perform delegated activities")
+      source=cite("common practice (time between training and the first rating to certify, and to retrain and retest after a failed attempt)", f"{S.E6}, Annex 1 section 2.3.2"))
 def no_lead_time(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Raters are trained with no lead time before the first assessment they may rate.
 
