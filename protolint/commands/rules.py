@@ -1,9 +1,11 @@
-"""``protolint rules [RULE-ID]``: list the rules, or explain one."""
+"""``protolint rules [RULE-ID | FAMILY]``: list the rules, list one family, or explain one rule."""
 
 from __future__ import annotations
 
 import difflib
 import json
+import shutil
+import textwrap
 from itertools import groupby
 from typing import Any, Sequence
 
@@ -47,7 +49,7 @@ def find_rule(rule_id: str, metas: Sequence[RuleMeta]) -> RuleMeta:
         if meta.id == rule_id:
             return meta
     close = suggestions(rule_id, [meta.id for meta in metas])
-    hint = f"did you mean {', '.join(close)}?" if close else "'protolint rules' lists them"
+    hint = f"did you mean {', '.join(close)}?" if close else "'protolint rules' lists them, 'protolint rules FAMILY' one family"
     raise ProtolintError(f"unknown rule {rule_id!r}; {hint}")
 
 
@@ -67,29 +69,87 @@ def list_text(metas: Sequence[RuleMeta]) -> str:
     return "\n\n".join(blocks)
 
 
-def explain_text(meta: RuleMeta) -> str:
+def _width() -> int:
+    return max(40, min(100, shutil.get_terminal_size((100, 24)).columns) - 2)
+
+
+def _inline_text(children) -> str:  # type: ignore[no-untyped-def]
+    """The text of a Markdown inline run, without its markup: **bold** and `code` read as plain words."""
+    parts = []
+    for child in children or ():
+        if child.type in ("text", "code_inline"):
+            parts.append(child.content)
+        elif child.type in ("softbreak", "hardbreak"):
+            parts.append(" ")
+    return "".join(parts)
+
+
+def markdown_as_text(markdown: str, width: int | None = None) -> str:
+    """A rule's Markdown documentation as plain text for a terminal: paragraphs re-flowed to the
+    width, list items as indented dashes, no raw markup left."""
+    from markdown_it import MarkdownIt
+
+    width = width or _width()
+    blocks: list[tuple[str, bool]] = []
+    depth = 0
+    for token in MarkdownIt("commonmark").parse(markdown):
+        if token.type in ("bullet_list_open", "ordered_list_open"):
+            depth += 1
+        elif token.type in ("bullet_list_close", "ordered_list_close"):
+            depth -= 1
+        elif token.type == "inline":
+            text = " ".join(_inline_text(token.children).split())
+            if depth:
+                indent = "  " * (depth - 1)
+                blocks.append((textwrap.fill(text, width, initial_indent=indent + "- ",
+                                             subsequent_indent=indent + "  "), True))
+            else:
+                blocks.append((textwrap.fill(text, width), False))
+        elif token.type in ("fence", "code_block"):
+            blocks.append((textwrap.indent(token.content.rstrip("\n"), "    "), False))
+    out = ""
+    for index, (text, item) in enumerate(blocks):
+        if index:
+            out += "\n" if item and blocks[index - 1][1] else "\n\n"
+        out += text
+    return out
+
+
+def _sources_text(source: str, width: int) -> str:
+    parts = [part.strip() for part in source.split("; ") if part.strip()]
+    if len(parts) == 1:
+        return textwrap.fill(f"Source: {parts[0]}", width, subsequent_indent="  ")
+    lines = ["Sources:"]
+    lines += [textwrap.fill(part, width, initial_indent="  - ", subsequent_indent="    ") for part in parts]
+    return "\n".join(lines)
+
+
+def explain_text(meta: RuleMeta, width: int | None = None) -> str:
+    width = width or _width()
     traits = [
         f"default severity {meta.severity.label}",
         "waivable" if meta.waivable else "not waivable",
         "computed: recomputes numbers from the plan" if meta.computed else "not computed",
     ]
-    blocks = [meta.id, meta.summary, "; ".join(traits)]
+    blocks = [meta.id, textwrap.fill(meta.summary, width), "; ".join(traits)]
     if meta.thresholds:
-        width = max(len(t.name) for t in meta.thresholds)
+        name_width = max(len(t.name) for t in meta.thresholds)
         lines = ["Thresholds (defaults; a policy file may change them):"]
         for t in meta.thresholds:
-            lines.append(f"  {t.name:<{width}} = {t.default}  {t.description}")
+            head = f"  {t.name:<{name_width}} = {t.default}  "
+            lines.append(textwrap.fill(t.description, width, initial_indent=head,
+                                       subsequent_indent=" " * len(head)))
         blocks.append("\n".join(lines))
     else:
         blocks.append("Thresholds: none")
-    blocks.append(f"Source: {meta.source}")
+    blocks.append(_sources_text(meta.source, width))
     if meta.documentation:
-        blocks.append(meta.documentation)
+        blocks.append(markdown_as_text(meta.documentation, width))
     return "\n\n".join(blocks)
 
 
 @click.command(name="rules")
-@click.argument("rule_id", required=False, metavar="[RULE-ID]")
+@click.argument("rule_id", required=False, metavar="[RULE-ID | FAMILY]")
 @click.option(
     "--format",
     "fmt",
@@ -99,20 +159,24 @@ def explain_text(meta: RuleMeta) -> str:
     help="Output format.",
 )
 def command(rule_id: str | None, fmt: str) -> None:
-    """List every rule, or explain one rule: its rationale, thresholds and source.
+    """List every rule, list the rules of one family, or explain one rule: its rationale,
+    thresholds and sources.
 
     \b
     Examples:
       protolint rules
+      protolint rules sop
       protolint rules --format json
       protolint rules FAMILY/RULE-NAME
     """
     metas = sorted(iter_metas(), key=lambda m: m.id)
-    if rule_id is None:
+    families = {m.family for m in metas}
+    if rule_id is None or rule_id.rstrip("/") in families:
+        chosen = metas if rule_id is None else [m for m in metas if m.family == rule_id.rstrip("/")]
         if fmt == "json":
-            click.echo(json.dumps([rule_as_dict(m) for m in metas], ensure_ascii=False, indent=2))
+            click.echo(json.dumps([rule_as_dict(m) for m in chosen], ensure_ascii=False, indent=2))
         else:
-            click.echo(list_text(metas))
+            click.echo(list_text(chosen))
         return
     meta = find_rule(rule_id, metas)
     if fmt == "json":

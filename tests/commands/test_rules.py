@@ -86,7 +86,38 @@ def test_explain_one_rule_text(test_rule):
     assert "default severity warning; waivable; computed" in out
     assert "max_gap_weeks = 8  Longest gap allowed (test value)" in out
     assert "Source: invented for tests" in out
-    assert "**Passes**: anything." in out
+    assert "Passes: anything." in out and "**" not in out
+
+
+def test_explain_prints_markdown_as_plain_text():
+    from protolint.commands.rules import markdown_as_text
+
+    text = markdown_as_text("Why `x` matters.\n\n- one\n- **two**\n\n**Passes**: `a: 1`.", width=60)
+    assert text == "Why x matters.\n\n- one\n- two\n\nPasses: a: 1."
+
+
+def test_every_rule_explained_as_text_has_no_raw_markup(test_rule):
+    for registered in all_rules():
+        out = invoke(registered.meta.id).stdout
+        assert "**" not in out and "`" not in out, registered.meta.id
+        assert "Passes:" in out or registered.check is None
+
+
+def test_multiple_sources_are_listed_one_per_line():
+    out = invoke("evidence/population-differs").stdout
+    block = out.split("Sources:\n", 1)[1].split("\n\n", 1)[0]
+    assert [line.startswith("  - ") for line in block.splitlines() if not line.startswith("    ")] == [True] * 3
+    assert "Kottner J" in block and "Mulsant BH" in block
+
+
+def test_family_lists_only_that_family(test_rule):
+    result = invoke("sop")
+    assert result.exit_code == 0
+    ids = [line.split()[0] for line in result.stdout.splitlines() if line.startswith("  ")]
+    assert ids == sorted(r.meta.id for r in all_rules() if r.meta.family == "sop")
+    assert len(ids) >= 6
+    data = json.loads(invoke("testonly", "--format", "json").stdout)
+    assert [item["id"] for item in data] == [TEST_RULE_ID]
 
 
 def test_explain_one_rule_json(test_rule):
