@@ -175,13 +175,13 @@ def lower_bound_below_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 @rule("evidence/study-too-small", "warning", computed=True,
       thresholds=[Threshold("min_subjects", 30, "Fewest subjects a reliability study should have rated.", 2, 10000),
-                  Threshold("max_ci_width", 0.30, "Widest acceptable 95 % interval of an ICC, as planned with Bonett's formula.", 0.01, 1.0)],
+                  Threshold("max_ci_width", 0.30, "Widest acceptable 95% interval of an ICC, as planned with Bonett's formula.", 0.01, 1.0)],
       source=cite(f"{S.BONETT_2002} (expected width of the 95% interval of an ICC from subjects, raters and the estimate)", "30 subjects at least: common practice"))
 def study_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A reliability study rated too few subjects to pin its estimate down.
 
     Small reliability studies give intervals that run from poor to excellent. For an ICC the
-    expected full width of the 95 % interval is worked out from the subjects n, the raters k
+    expected full width of the 95% interval is worked out from the subjects n, the raters k
     and the single-rating estimate r (Bonett 2002):
     w = 2 z (1 − r)(1 + (k − 1) r) √(2 / (k (k − 1)(n − 1))), with the number of subjects that
     would reach `max_ci_width`. Any rater or retest study with fewer than `min_subjects` is
@@ -206,7 +206,7 @@ def study_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                 continue
             needed = bonett_subjects(r, k, max_width)
             yield Hit(evidence.path + ("subjects",),
-                      f"evidence {evidence.id} for {instrument.id} rated {n} subjects with {k} raters; at r = {fmt(r)} its 95 % "
+                      f"evidence {evidence.id} for {instrument.id} rated {n} subjects with {k} raters; at r = {fmt(r)} its 95% "
                       f"interval is about {fmt(width, 2)} wide (Bonett 2002), against at most {fmt(max_width, 2)}; about "
                       f"{needed} subjects would be needed — {PLANNING_AID}",
                       {"evidence": evidence.id, "subjects": n, "raters": k, "single_rating_estimate": round(r, 4),

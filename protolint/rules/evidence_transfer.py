@@ -97,7 +97,8 @@ def rater_type_differs(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                     admitted = "any experience" if years is None else f"{fmt(years)} years' experience"
                     yield Hit(evidence.path + ("rater_experience",),
                               f"evidence {evidence.id} comes from expert raters, but pool {pool.id} admits raters with "
-                              f"{admitted} (below {fmt(expert_years)}); expect lower agreement, or confirm it in the trial's certification data",
+                              f"{admitted}, below the {fmt(expert_years)} years that make a rater comparable with the "
+                              "evidence's experts; expect lower agreement, or confirm it in the trial's certification data",
                               {"evidence": evidence.id, "pool": pool.id, "pool_min_years": years, "expert_years": expert_years})
                     break
     yield from unique(hits())

@@ -15,6 +15,7 @@ from protolint.rules.evidence_fit import individual_use, trial_reliability, true
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
+from protolint.rules.wording import plural
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 _RECOMPUTED = ("two-group-difference",)
@@ -123,7 +124,7 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     }
     yield Hit(size.path + ("stated_n_total",),
               f"endpoint {endpoint.id} is rated with reliability {fmt(rho)} (evidence {found.evidence.id}, "
-              f"{found.ratings} rating(s) per assessment); with d = {fmt(d)} {basis}, the observed effect is "
+              f"{plural(found.ratings, 'rating')} per assessment); with d = {fmt(d)} {basis}, the observed effect is "
               f"{fmt(d_obs)} and {needed} participants are needed ({groups.n1} + {groups.n2} analysable, {fmt(dropout)} "
               f"dropout), not {size.stated_n_total}: {shortfall} short, and the stated N gives about {power_stated:.0%} "
               f"power instead of {size.power:.0%}; enrol more, average more raters, or raise reliability — {PLANNING_AID}",
@@ -162,7 +163,7 @@ def fewer_raters_than_needed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
             continue
         reached = spearman_brown(found.single, k)
         yield Hit(endpoint.path + ("raters_per_assessment",),
-                  f"endpoint {endpoint.id} averages {found.ratings} rating(s) reaching {fmt(found.reliability)} (single-rating "
+                  f"endpoint {endpoint.id} averages {plural(found.ratings, 'rating')} reaching {fmt(found.reliability)} (single-rating "
                   f"{fmt(found.single)}, evidence {found.evidence.id}); Spearman–Brown needs {k} independent raters to reach "
                   f"{fmt(target)} (they would reach {fmt(reached)}) — {PLANNING_AID}",
                   {"endpoint": endpoint.id, "evidence": found.evidence.id, "single_rating_reliability": round(found.single, 4),

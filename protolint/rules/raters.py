@@ -8,6 +8,7 @@ from protolint.plan.model import Plan, RaterCertification
 from protolint.plan.timeline import certification_expiry
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
+from protolint.rules.wording import plural
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 
@@ -239,7 +240,7 @@ def no_turnover_plan(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                                            "replacement is trained and certified before rating")
         if pool.location != "central" and pool.raters_per_site is not None and pool.raters_per_site < minimum:
             yield Hit(pool.path + ("raters_per_site",),
-                      f"rater pool {pool.id} keeps {pool.raters_per_site} certified rater(s) per site, fewer than {minimum}; "
+                      f"rater pool {pool.id} keeps {plural(pool.raters_per_site, 'certified rater')} per site, fewer than {minimum}; "
                       "certify a backup rater at each site",
                       {"pool": pool.id, "raters_per_site": pool.raters_per_site, "minimum": minimum})
 

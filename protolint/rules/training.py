@@ -9,6 +9,7 @@ from protolint.plan.model import Plan, RaterPool
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
+from protolint.rules.wording import plural
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 # Amendment changes that alter what a rater does; a change of rated visits alone does not.
@@ -70,7 +71,7 @@ def _certification_rho(pool: RaterPool, assumed: float) -> tuple[float, str]:
 
 @rule("training/certification-too-small", "warning", computed=True,
       thresholds=[Threshold("min_cases", 10, "Fewest reference cases a certification should use.", 1, 1000),
-                  Threshold("max_ci_width", 0.40, "Widest acceptable 95 % interval of one rater's agreement with the reference.", 0.01, 1.0),
+                  Threshold("max_ci_width", 0.40, "Widest acceptable 95% interval of one rater's agreement with the reference.", 0.01, 1.0),
                   Threshold("assumed_icc", 0.80, "Agreement assumed when the plan gives neither expected_icc nor an ICC criterion.", 0.0, 0.99)],
       source=cite(f"{S.BONETT_2002} (expected width of the interval of an ICC)", f"{S.WALTER_1998}", "the default width: common practice"))
 def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
@@ -78,7 +79,7 @@ def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     Each rater's pass or fail rests on their agreement with the reference scores over the
     certification cases: an ICC between two score sets (k = 2) from n cases. Its expected
-    95 % interval width is worked out with Bonett's (2002) formula at the expected agreement
+    95% interval width is worked out with Bonett's (2002) formula at the expected agreement
     (the pool's `expected_icc`, else its ICC pass minimum, else `assumed_icc`), together with
     the number of cases that would reach `max_ci_width`; fewer than `min_cases` cases are
     reported whatever the width. With few cases a rater passes or fails largely by chance.
@@ -104,7 +105,7 @@ def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
         needed = bonett_subjects(rho, 2, max_width)
         shown = "cannot be estimated" if n < 2 else f"is about {fmt(width, 2)} wide"
         yield Hit(cert.path + ("cases",),
-                  f"rater pool {pool.id} certifies on {n} case(s): at an expected ICC of {fmt(rho)} ({basis}) the 95 % "
+                  f"rater pool {pool.id} certifies on {plural(n, 'case')}: at an expected ICC of {fmt(rho)}, {basis}, the 95% "
                   f"interval of a rater's agreement with the reference {shown} (Bonett 2002); {needed} cases would bring it to "
                   f"{fmt(max_width, 2)}, and at least {min_cases} are expected — {PLANNING_AID}",
                   {"pool": pool.id, "cases": n, "k": 2, "expected_icc": rho, "expected_icc_basis": basis,
@@ -210,8 +211,8 @@ def no_lead_time(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
         lead = training.days_before_first_rating if training else None
         if training is not None and lead is not None and lead < min_lead:
             yield Hit(training.path + ("days_before_first_rating",),
-                      f"rater pool {pool.id} may finish training {_days(lead)} before a rater's first rating, fewer than "
-                      f"{_days(min_lead)}; leave time to certify, and to retrain a rater who fails, before the first assessment",
+                      f"rater pool {pool.id} may finish training {plural(lead, 'day')} before a rater's first rating, fewer than "
+                      f"{plural(min_lead, 'day')}; leave time to certify, and to retrain a rater who fails, before the first assessment",
                       {"pool": pool.id, "days_before_first_rating": lead, "min_lead_days": min_lead})
         for rater in plan.roster:
             if rater.pool != pool.id:
@@ -225,9 +226,9 @@ def no_lead_time(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                     gap = (rater.first_rating - first.date).days
                     if lead is not None and 0 <= gap < lead:
                         yield Hit(first.path + ("date",),
-                                  f"rater {rater.id} is certified on {instrument_id} on {first.date.isoformat()}, {_days(gap)} "
+                                  f"rater {rater.id} is certified on {instrument_id} on {first.date.isoformat()}, {plural(gap, 'day')} "
                                   f"before their first rating on {rater.first_rating.isoformat()}, but pool {pool.id} requires "
-                                  f"training to end {_days(lead)} before",
+                                  f"training to end {plural(lead, 'day')} before",
                                   {"rater": rater.id, "instrument": instrument_id, "certified": first.date.isoformat(),
                                    "first_rating": rater.first_rating.isoformat(), "lead_days": gap, "required_days": lead})
                 elif rater.site is not None:
@@ -240,7 +241,3 @@ def no_lead_time(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                                   {"rater": rater.id, "site": rater.site, "instrument": instrument_id,
                                    "certified": first.date.isoformat(), "site_first_assessment": start.isoformat()})
                 break
-
-
-def _days(count: int) -> str:
-    return f"{count} day" if count == 1 else f"{count} days"
