@@ -116,7 +116,9 @@ def markdown_as_text(markdown: str, width: int | None = None) -> str:
 
 
 def _sources_text(source: str, width: int) -> str:
-    parts = [part.strip() for part in source.split("; ") if part.strip()]
+    from protolint.rules.sources import split_sources
+
+    parts = split_sources(source)
     if len(parts) == 1:
         return textwrap.fill(f"Source: {parts[0]}", width, subsequent_indent="  ")
     lines = ["Sources:"]

@@ -68,7 +68,7 @@ def no_qualifications(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 @rule("raters/unqualified-rater", "error",
-      source=cite(f"{S.E6}, principle 5.1 (individuals qualified by education, training and experience)", "Annex 1 section 2.3.2 (delegated staff appropriately qualified)"))
+      source=f"{S.E6}, principle 5.1 (individuals qualified by education, training and experience) and Annex 1 section 2.3.2 (delegated staff appropriately qualified)")
 def unqualified_rater(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater on the roster does not meet the qualifications of their pool.
 

@@ -27,7 +27,7 @@ DE_VET_2006 = ("de Vet HCW, Terwee CB, Ostelo RWJG, Beckerman H, Knol DL, Bouter
                "status questionnaires: distinction between minimally detectable change and minimally important change. "
                "Health and Quality of Life Outcomes 4:54. doi:10.1186/1477-7525-4-54")
 FDA_PRO_2009 = ("US Food and Drug Administration (2009). Guidance for Industry. Patient-Reported Outcome Measures: Use in "
-                "Medical Product Development to Support Labeling Claims. December 2009; notice of availability in the "
+                "Medical Product Development to Support Labeling Claims. December 2009, announced in the "
                 "Federal Register 74(235):65132-65133")
 GRRAS_2011 = ("Kottner J, Audigé L, Brorson S, Donner A, Gajewski BJ, Hróbjartsson A, Roberts C, Shoukri M, Streiner DL "
               "(2011). Guidelines for Reporting Reliability and Agreement Studies (GRRAS) were proposed. Journal of "
@@ -76,6 +76,21 @@ WEIR_2005 = ("Weir JP (2005). Quantifying test-retest reliability using the intr
 def cite(*parts: str) -> str:
     """One source string from several citations, each with the point it supports."""
     return "; ".join(parts)
+
+
+def split_sources(source: str) -> list[str]:
+    """The citations of a source string: split at "; " outside parentheses."""
+    parts, depth, start = [], 0, 0
+    for index, char in enumerate(source):
+        if char == "(":
+            depth += 1
+        elif char == ")":
+            depth = max(0, depth - 1)
+        elif char == ";" and depth == 0 and source.startswith("; ", index):
+            parts.append(source[start:index].strip())
+            start = index + 2
+    parts.append(source[start:].strip())
+    return [part for part in parts if part]
 GUENTHER_1981 = ("Guenther WC (1981). Sample size formulas for normal theory t tests. The American Statistician "
                  "35(4):243-244")
 E6 = ICH_E6_R3

@@ -82,3 +82,22 @@ def test_numeric_rules_show_their_working() -> None:
     assert NUMERIC <= with_formula
     for rule_id in NUMERIC:
         assert next(r for r in RULES if r.meta.id == rule_id).meta.computed
+
+
+# "Author (YEAR). Title" as written in protolint/rules/sources.py, or a named standard.
+FULL_CITATION = re.compile(r"\(\d{4}\)\. \S|ICH E\d|ISO 9001|Code of Federal Regulations")
+
+
+@pytest.mark.parametrize("registered", RULES, ids=[r.meta.id for r in RULES])
+def test_rule_source_is_written_out_or_common_practice(registered, request) -> None:
+    if registered.check.__module__ == "protolint.rules.monitoring":
+        request.applymarker(pytest.mark.xfail(reason="monitoring.py is being moved; its sources are written out "
+                                                     "from protolint/rules/sources.py when the move lands",
+                                              strict=False))
+    source = registered.meta.source
+    assert "memory" not in source.lower()
+    from protolint.rules.sources import split_sources
+
+    for part in split_sources(source):
+        assert FULL_CITATION.search(part) or "common practice" in part, \
+            f"{registered.meta.id}: {part!r} is neither a full citation nor common practice"
