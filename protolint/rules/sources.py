@@ -27,7 +27,7 @@ DE_VET_2006 = ("de Vet HCW, Terwee CB, Ostelo RWJG, Beckerman H, Knol DL, Bouter
                "status questionnaires: distinction between minimally detectable change and minimally important change. "
                "Health and Quality of Life Outcomes 4:54. doi:10.1186/1477-7525-4-54")
 FDA_PRO_2009 = ("US Food and Drug Administration (2009). Guidance for Industry. Patient-Reported Outcome Measures: Use in "
-                "Medical Product Development to Support Labeling Claims. December 2009, announced in the "
+                "Medical Product Development to Support Labeling Claims. Announced in the "
                 "Federal Register 74(235):65132-65133")
 GRRAS_2011 = ("Kottner J, Audigé L, Brorson S, Donner A, Gajewski BJ, Hróbjartsson A, Roberts C, Shoukri M, Streiner DL "
               "(2011). Guidelines for Reporting Reliability and Agreement Studies (GRRAS) were proposed. Journal of "
@@ -41,10 +41,9 @@ HROBJARTSSON_2013 = ("Hróbjartsson A, Thomsen ASS, Emanuelsson F, Tendal B, Hil
                      "doi:10.1503/cmaj.120744")
 ICH_E6_R3 = ("ICH E6(R3) Guideline for Good Clinical Practice, final version adopted 6 January 2025 (International "
              "Council for Harmonisation)")
-ICH_E9 = ("ICH E9 Statistical Principles for Clinical Trials, Step 4, 5 February 1998 (International Council for "
-          "Harmonisation)")
+ICH_E9 = "ICH E9 Statistical Principles for Clinical Trials (International Council for Harmonisation, 1998)"
 ISO_9001 = "ISO 9001:2015 Quality management systems - Requirements (International Organization for Standardization)"
-CFR_PART_11 = "US Code of Federal Regulations, Title 21, Part 11 (Electronic records; electronic signatures), section 11.50"
+CFR_PART_11 = "US Code of Federal Regulations, Title 21, Part 11, section 11.50"
 KOBAK_2004 = "Kobak KA and co-authors (2004). Rater training in multicenter clinical trials: issues and recommendations"
 KOBAK_2010 = ("Kobak KA, Leuchter A, DeBrota D, Engelhardt N, Williams JBW, Cook IA, Leon AC, Alpert J (2010). Site "
               "versus centralized raters in a clinical depression trial: impact on patient selection and placebo "
