@@ -602,6 +602,7 @@ class DesignReport:
             "frontier": [],
             "baseline": None,
             "saving": None,
+            "plan": None,
         }
         if opt is not None:
             if opt.optimum is not None:
