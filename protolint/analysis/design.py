@@ -23,6 +23,10 @@ import numpy as np
 
 from protolint import CAUTION
 from protolint.errors import LocatedError, ProtolintError
+
+# Plan facts (the reliability the plan's evidence supports, the true-score effect, individual use)
+# come from this one import; when they move into protolint.plan only this line changes.
+from protolint.rules.evidence_fit import individual_use, trial_reliability, true_effect_size
 from protolint.stats.gtheory import DESIGNS, GStudy, g_study
 
 if TYPE_CHECKING:
@@ -456,13 +460,6 @@ def optimise(g: GStudy, coefficient: str, comparison: Comparison, costs: Costs,
 
 # --------------------------------------------------------------------------- the plan
 
-# Plan facts come from this one import; when they move into protolint.plan only it changes.
-def _plan_facts():  # noqa: ANN202 - returns the three functions
-    from protolint.rules.evidence_fit import individual_use, trial_reliability, true_effect_size
-
-    return individual_use, trial_reliability, true_effect_size
-
-
 @dataclass(frozen=True)
 class PlanInputs:
     """What ``--plan`` contributes: the comparison, the coefficient and the plan's own design."""
@@ -488,7 +485,6 @@ class PlanInputs:
 
 def coefficient_for_endpoint(plan: Plan, endpoint: Endpoint) -> tuple[str, str]:
     """``"g"`` only when the same raters rate every participant and no individual decision rests on the score."""
-    individual_use, _, _ = _plan_facts()
     if individual_use(endpoint):
         return "phi", "the score decides about individual participants (absolute error counts)"
     if endpoint.rater_assignment == "rotating":
@@ -516,7 +512,6 @@ def plan_inputs(plan_file: str) -> PlanInputs:
     if spec is None:
         raise ProtolintError(f"{plan_file}: the plan has no sample_size section; give --effect-size instead of --plan")
     endpoint = plan.endpoint(spec.endpoint)
-    _, trial_reliability, true_effect_size = _plan_facts()
     expected = trial_reliability(plan, endpoint)
     fallback = spec.assumed_reliability if spec.assumed_reliability is not None else 1.0
     effect = true_effect_size(spec, expected.reliability if expected else fallback)
