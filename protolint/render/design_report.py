@@ -171,7 +171,9 @@ def frontier_chart(report: DesignReport) -> str:
 
 
 def context(report: DesignReport, paper: str) -> dict[str, Any]:
-    data = report.to_json()
+    from protolint.commands._shared import _finite
+
+    data = _finite(report.to_json())  # undefined numbers print as blanks, not "nan"
     words = {COMPONENT_KEYS[effect]: text for effect, text in COMPONENT_WORDS.items()}
     return {
         "control": _control(report, paper),

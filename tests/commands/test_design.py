@@ -250,3 +250,37 @@ def test_bad_options_are_one_line_errors(brennan_file: Path, args: tuple[str, ..
 def test_demo_pilot_is_labelled_simulated() -> None:
     readme = (DEMO_PILOT.parent / "README.md").read_text(encoding="utf-8")
     assert "SIMULATED" in readme and "simulated" in DEMO_PILOT.name
+
+
+def _plan_with(tmp_path: Path, old: str, new: str) -> Path:
+    text = DEMO_PLAN.read_text(encoding="utf-8")
+    assert old in text
+    path = tmp_path / "plan.yaml"
+    path.write_text(text.replace(old, new, 1), encoding="utf-8")
+    return path
+
+
+def test_plan_design_outside_the_limits_is_evaluated_and_said(tmp_path: Path) -> None:
+    plan = _plan_with(tmp_path, "    raters_per_assessment: 1\n", "    raters_per_assessment: 3\n")
+    report = run_json(DEMO_PILOT, "--plan", plan, "--cost-participant", "4000", "--cost-rating", "150",
+                      "--max-raters", "2", "--max-occasions", "1")
+    p = report["plan"]
+    assert (p["raters"], p["occasions"]) == (3, 1) and p["on_frontier"] is False
+    assert p["note"] == "the plan's design lies outside the searched limits"
+    assert p["design"]["reliability"] == pytest.approx(
+        g_study_of_demo().d_study(3, 1).phi)
+
+
+def g_study_of_demo():
+    from protolint.analysis.design import arrange, read_pilot
+
+    return g_study(arrange(read_pilot(str(DEMO_PILOT))).scores)
+
+
+def test_plan_occasions_cannot_be_projected_from_a_two_facet_pilot(tmp_path: Path) -> None:
+    plan = _plan_with(tmp_path, "    raters_per_assessment: 1\n", "    raters_per_assessment: 1\n    occasions_per_assessment: 2\n")
+    rows = [[f"S{i}", f"R{j}", (i * 7 + j * 3) % 11] for i in range(8) for j in range(3)]
+    pilot = write(tmp_path / "pxr.csv", ["subject", "rater", "score"], rows)
+    report = run_json(pilot, "--plan", plan, "--cost-participant", "100")
+    assert report["plan"]["design"] is None and "no occasion facet" in report["plan"]["note"]
+    assert report["limits"]["max_occasions"] == 1
