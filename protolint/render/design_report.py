@@ -7,6 +7,7 @@ PDF/A writer of ``render.pdf``, which embeds the pilot data file that produced t
 
 from __future__ import annotations
 
+import math
 import os
 import re
 from dataclasses import dataclass
@@ -131,7 +132,10 @@ def dstudy_chart(report: DesignReport) -> str:
         other_name = "Φ" if report.coefficient == "g" else "Eρ²"
         axes.set_xlabel("raters per assessment (k)")
         axes.set_ylabel(f"{name} (solid), {other_name} (dashed)")
-        axes.set_ylim(0, 1)
+        finite = [v for _, _, e, p in rows for v in (e, p) if v == v]
+        low = min(finite, default=0.0)
+        # Start the axis a little below the lowest value so that the curves are told apart.
+        axes.set_ylim(max(0.0, math.floor(low * 10) / 10 - 0.1), 1.0)
         axes.set_xticks(sorted({k for k, _, _, _ in rows}))
         axes.grid(True, color="#dddddd", linewidth=0.6)
         axes.legend(frameon=False, loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=min(len(occasions), 5), fontsize=8)
