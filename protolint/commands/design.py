@@ -23,6 +23,18 @@ def _money(value: float | None) -> str:
     return "—" if value is None else f"{value:,.0f}"
 
 
+_DESIGN_NAMES = {"pxr": "p x r", "pxrxo": "p x r x o", "r:p": "r:p"}
+
+
+def _design_name(value: str | None) -> str | None:
+    if value is None:
+        return None
+    key = "".join(value.lower().replace("×", "x").split())
+    if key not in _DESIGN_NAMES:
+        raise ProtolintError(f"--design must be 'p x r', 'p x r x o' or 'r:p', got {value!r}")
+    return _DESIGN_NAMES[key]
+
+
 def render_text(report: dict[str, Any]) -> str:
     """The plain-text report."""
     lines = [f"G-study of {report['file']}: design {report['design']}"
@@ -102,7 +114,8 @@ def render_text(report: dict[str, Any]) -> str:
 @click.command("design", cls=OneLineCommand)
 @click.argument("pilot", type=click.Path(dir_okay=True))
 @click.option("--plan", "plan_file", type=click.Path(), help="Take the comparison, the coefficient and the plan's own design from this plan.")
-@click.option("--design", "design", type=click.Choice(("p x r", "p x r x o", "r:p")), help="Insist on a design instead of detecting it.")
+@click.option("--design", "design", callback=lambda ctx, param, value: _design_name(value), metavar="[p x r|p x r x o|r:p]",
+              help="Insist on a design instead of detecting it (spaces optional: pxr, pxrxo).")
 @click.option("--coefficient", type=click.Choice(("g", "phi")), help="Eρ² (g) or Φ (phi) [default: phi, or from --plan].")
 @click.option("--effect-size", type=float, help="True-score standardised difference d of the planned comparison.")
 @click.option("--alpha", type=float, help="Significance level [default: 0.05].")

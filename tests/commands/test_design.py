@@ -107,6 +107,8 @@ def test_two_facet_and_nested_designs_are_detected(tmp_path: Path) -> None:
     assert b["design"] == "r:p" and list(b["components"]) == ["subject", "rater:subject"]
     assert all(row["g"] == row["phi"] for row in b["dstudy"])
     # Insisting on r:p for crossed data ignores rater identity, and says so.
+    assert run_json(crossed, "--design", "PxR")["design"] == "p x r"
+    assert run(crossed, "--design", "p x q")[0] == 2
     c = run_json(crossed, "--design", "r:p")
     assert c["design"] == "r:p" and c["design_detected"] is False
     assert any("rater identity ignored" in note for note in c["notes"])
@@ -184,6 +186,12 @@ def test_plan_supplies_the_comparison_and_judges_its_own_design() -> None:
                                     "dropout": 0.15, "convention": "ctt"}
     # EP-PRIMARY's total decides eligibility and response: absolute error, Phi.
     assert report["coefficient"] == "phi" and "individual" in report["coefficient_reason"]
+    # The simulated pilot's rater x occasion estimate is negative: reported, zeroed and used as zero.
+    ro = report["components"]["rater:occasion"]
+    assert ro["set_to_zero"] is True and ro["estimate"] < 0 and ro["variance"] == 0.0 and ro["share"] == 0.0
+    v = {e["effect"]: e["variance"] for e in report["components"].values()}
+    absolute = v["pr"] + v["po"] + v["pro,e"] + v["r"] + v["o"] + v["ro"]
+    assert report["dstudy"][0]["phi"] == pytest.approx(v["p"] / (v["p"] + absolute))
     plan = report["plan"]
     assert (plan["raters"], plan["occasions"]) == (1, 1) and plan["endpoint"] == "EP-PRIMARY"
     assert plan["design"]["reliability"] == pytest.approx(report["dstudy"][0]["phi"])
