@@ -292,3 +292,17 @@ def test_plan_occasions_cannot_be_projected_from_a_two_facet_pilot(tmp_path: Pat
     report = run_json(pilot, "--plan", plan, "--cost-participant", "100")
     assert report["plan"]["design"] is None and "no occasion facet" in report["plan"]["note"]
     assert report["limits"]["max_occasions"] == 1
+
+
+def test_text_report_names_the_optimum_the_saving_and_the_plan() -> None:
+    code, out, _ = run(DEMO_PILOT, "--plan", DEMO_PLAN, "--cost-participant", "4000", "--cost-rating", "150",
+                       "--cost-occasion", "350")
+    report = run_json(DEMO_PILOT, "--plan", DEMO_PLAN, "--cost-participant", "4000", "--cost-rating", "150",
+                      "--cost-occasion", "350")
+    opt = report["optimum"]
+    assert code == 0
+    assert f"Cheapest design: {opt['raters']} rater(s) x {opt['occasions']} occasion(s), N = {opt['n_total_enrolled']}" in out
+    assert f"saves {report['saving']['cost']:,.0f}" in out
+    assert "negative estimate" in out and "set to 0" in out
+    assert f"on the frontier: {'yes' if report['plan']['on_frontier'] else 'no'}" in out
+    assert out.rstrip().endswith(CAUTION.split()[-1])
