@@ -299,13 +299,19 @@ def arrange(pilot: PilotRatings, design: str | None = None) -> Arrangement:
     kept = np.flatnonzero(complete)
     dropped = tuple(pilot.subjects[i] for i in np.flatnonzero(~complete))
     cells = "rater" if n_occasions == 1 else "rater x occasion"
+    nested_hint = ("--design r:p treats each subject's ratings as made by raters of its own "
+                   "(rater and residual variance are then confounded)")
     if kept.size < 2:
         per_rater = np.bincount(pilot.rater, minlength=len(pilot.raters))
-        hint = " (no rater rated more than one subject: use --design r:p)" if detect_design(pilot) == "r:p" else (
-            f"; the fewest-rated rater, {pilot.raters[int(per_rater.argmin())]!r}, has {int(per_rater.min())} rating(s)")
+        hint = f" (no rater rated more than one subject: use {nested_hint})" if detect_design(pilot) == "r:p" else (
+            f"; the fewest-rated rater, {pilot.raters[int(per_rater.argmin())]!r}, has {int(per_rater.min())} "
+            f"rating(s); if raters differ between subjects, {nested_hint}")
         raise ProtolintError(
             f"{pilot.path}: only {kept.size} of {n_subjects} subjects have a score in every {cells} cell; "
             f"design {chosen} needs at least 2 complete subjects{hint}")
+    if len(dropped) > n_subjects / 2:
+        notes.append(f"more than half of the subjects were dropped for missing cells; if raters differ between "
+                     f"subjects, {nested_hint}")
     array = cube[kept] if chosen == "p x r x o" else cube[kept, :, 0]
     return Arrangement(chosen, detected, array, tuple(pilot.subjects[i] for i in kept), pilot.raters, pilot.occasions,
                        Dropped(dropped, n_subjects, f"with missing {cells} cells", pilot.missing_scores), tuple(notes))

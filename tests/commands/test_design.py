@@ -239,6 +239,11 @@ def test_data_that_cannot_support_the_design_is_refused(tmp_path: Path, cli_proc
                    [[f"S{i}", f"R{i}-{j}", i + j] for i in range(5) for j in range(2)])
     result = cli_process("design", nested, "--design", "p x r")
     assert result.returncode == 2 and "use --design r:p" in result.stderr and "Traceback" not in result.stderr
+    # Raters who each rate the subjects of one site only: too few complete subjects.
+    by_site = write(tmp_path / "sites.csv", ["subject", "rater", "score"],
+                    [[f"S{i}", f"R{i % 3}-{j}", i + j] for i in range(9) for j in range(2)])
+    result = cli_process("design", by_site)
+    assert result.returncode == 2 and "only 0 of 9 subjects" in result.stderr and "--design r:p" in result.stderr
     result = cli_process("design", BRENNAN, "--plan", DEMO_PLAN, "--effect-size", "0.4")
     assert result.returncode == 2 and "Traceback" not in result.stderr
 
