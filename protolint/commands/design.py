@@ -169,7 +169,9 @@ def command(
         given = [name for name, value in comparison_options.items() if value is not None]
         if given:
             raise ProtolintError(f"{', '.join(given)} come(s) from the plan's sample_size with --plan; drop them or drop --plan")
-        plan = analysis.plan_inputs(plan_file)
+        from protolint.analysis.design_plan import plan_inputs
+
+        plan = plan_inputs(plan_file)
     elif effect_size is not None:
         comparison = analysis.Comparison(
             effect_size, alpha=0.05 if alpha is None else alpha, power=0.8 if power is None else power,

@@ -201,7 +201,7 @@ def test_plan_supplies_the_comparison_and_judges_its_own_design() -> None:
 
 
 def test_coefficient_follows_the_rating_arrangement() -> None:
-    from protolint.analysis.design import coefficient_for_endpoint
+    from protolint.analysis.design_plan import coefficient_for_endpoint
     from protolint.plan import read_plan_file
 
     plan = read_plan_file(str(DEMO_PLAN)).plan

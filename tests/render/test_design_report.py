@@ -23,7 +23,9 @@ DEMO_PLAN = ROOT / "demo_protocol" / "plan.yaml"
 
 def report_for(path: Path, with_plan: bool = True) -> design.DesignReport:
     pilot = design.read_pilot(str(path))
-    plan = design.plan_inputs(str(DEMO_PLAN)) if with_plan else None
+    from protolint.analysis.design_plan import plan_inputs
+
+    plan = plan_inputs(str(DEMO_PLAN)) if with_plan else None
     return design.analyse(pilot, plan=plan, costs=design.Costs(4000, 150, 350), sha256=design.file_sha256(str(path)))
 
 
