@@ -25,6 +25,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "consistency": ("protolint.commands.consistency", "Internal consistency of item data."),
     "render": ("protolint.commands.render", "Render controlled documents from a plan."),
     "calendar": ("protolint.commands.calendar", "Training, certification and monitoring dates as iCalendar."),
+    "design": ("protolint.commands.design", "Variance components and the cheapest raters x occasions x N design."),
 }
 
 

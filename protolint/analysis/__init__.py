@@ -1,0 +1,1 @@
+"""Analyses: rating data (and optionally a plan) in, frozen result objects with ``to_json()`` out."""
