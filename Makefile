@@ -1,5 +1,6 @@
 # protolint — the two commands a fresh machine needs are `make demo` and `make test`.
-# Both create .venv/ when it is missing and install the project (with its test extra) into it.
+# Both create .venv/ when it is missing and install the project with every extra
+# (`.[all,test]`: documents, analyses and the test libraries) into it.
 
 PYTHON ?= python3
 VENV   ?= .venv
@@ -15,7 +16,7 @@ install: $(STAMP)
 $(STAMP): pyproject.toml setup.py
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install --quiet --upgrade pip setuptools wheel
-	$(PY) -m pip install --quiet -e '.[test]'
+	$(PY) -m pip install --quiet -e '.[all,test]'
 	@touch $(STAMP)
 
 demo: $(STAMP)

@@ -39,14 +39,30 @@ class LazyGroup(click.Group):
         entry = COMMANDS.get(cmd_name)
         if entry is None:
             return None
-        module = importlib.import_module(entry[0])
+        try:
+            module = importlib.import_module(entry[0])
+        except ModuleNotFoundError as error:
+            raise _without_extra(cmd_name, error) from None
         return module.command
+
+    def invoke(self, ctx: click.Context) -> object:
+        try:
+            return super().invoke(ctx)
+        except ModuleNotFoundError as error:
+            # Commands import their stacks lazily, so a missing extra shows up here.
+            raise _without_extra(ctx.invoked_subcommand, error) from None
 
     def format_commands(self, ctx: click.Context, formatter: click.HelpFormatter) -> None:
         rows = [(name, COMMANDS[name][1]) for name in self.list_commands(ctx)]
         if rows:
             with formatter.section("Commands"):
                 formatter.write_dl(rows)
+
+
+def _without_extra(command: str | None, error: ModuleNotFoundError) -> Exception:
+    from protolint.extras import missing_extra_error
+
+    return missing_extra_error(command, error) or error
 
 
 def _module_exists(module: str) -> bool:
