@@ -9,10 +9,12 @@ import click
 
 from protolint import CAUTION
 from protolint.commands._shared import OneLineCommand, emit, to_json
+from protolint.data.options import reader_options
+from protolint.data.provenance import provenance_lines
 from protolint.errors import ProtolintError
 
 if TYPE_CHECKING:
-    from protolint.ratings_csv import RatingTable
+    from protolint.data import RatingTable, ReadOptions
 
 SCALES = ("interval", "ordinal", "nominal")
 
@@ -137,6 +139,7 @@ def analyse(table: RatingTable, scale: str, confidence: float) -> dict[str, Any]
         "skipped": skipped,
         "bands": {"icc": _ICC_BANDS, "kappa_type": _KAPPA_BANDS},
         "notes": notes,
+        "input": table.provenance.to_json() if table.provenance else None,
         "caution": CAUTION,
     }
 
@@ -169,6 +172,7 @@ def render_text(report: dict[str, Any]) -> str:
         f"Agreement in {report['file']}",
         f"{report['subjects']} subjects x {report['raters']} raters, {report['scale']} scale, "
         f"{report['missing']} missing cell(s); {level:g}% confidence intervals",
+        *provenance_lines(report.get("input")),
         "",
     ]
     header = f"{'Coefficient':<34} {'Value':>6}  {f'{level:g}% CI':<17} {'N':>4}  Band"
@@ -217,23 +221,27 @@ def render_text(report: dict[str, Any]) -> str:
 @click.option("--confidence", type=float, default=0.95, show_default=True, help="Confidence level of the intervals.")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text", show_default=True, help="Output format.")
 @click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write to this file instead of standard output.")
-def command(ratings: str, scale: str, confidence: float, fmt: str, output: str | None) -> None:
+@reader_options
+def command(ratings: str, scale: str, confidence: float, fmt: str, output: str | None, read_options: ReadOptions) -> None:
     """Reliability coefficients from rating data.
 
     RATINGS.csv has a header row, one row per subject, the subject id in the first column and
-    one column per rater (or occasion); an empty cell is a missing rating. Interval scale: the
+    one column per rater (or occasion); an empty cell is a missing rating. The file may also be
+    .tsv, .xlsx, Dataset-JSON 1.1 (.json, .ndjson) or SAS transport (.xpt), and long data (one
+    row per rating) is read with --subject/--rater/--score (or --columns sdtm-qs). Interval scale: the
     six ICC forms and Krippendorff's alpha. Ordinal and nominal scales: Krippendorff's alpha,
     Fleiss' kappa, Cohen's kappa (two raters) and Gwet's AC1 (AC2 on ordinal data).
 
     \b
     Example:
       protolint agreement certification_photos.csv --scale ordinal --format json
+      protolint agreement qs.xpt --columns sdtm-qs --where QSTESTCD=HLSC8TOT
     """
-    from protolint.ratings_csv import read_table
+    from protolint.data import read_rating_table
 
     if not 0.0 < confidence < 1.0:
         raise ProtolintError(f"--confidence must be between 0 and 1, got {confidence}")
-    table = read_table(ratings, numeric=scale != "nominal", kind="rater", scale=scale)
+    table = read_rating_table(ratings, read_options, numeric=scale != "nominal", kind="rater", scale=scale)
     report = analyse(table, scale, confidence)
     text = to_json(report) if fmt == "json" else render_text(report)
     emit(text, output, f"{fmt} agreement report")

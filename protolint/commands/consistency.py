@@ -2,21 +2,26 @@
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
 
 from protolint import CAUTION
 from protolint.commands._shared import OneLineCommand
+from protolint.data.options import reader_options
+from protolint.data.provenance import provenance_lines
 from protolint.errors import ProtolintError
 
+if TYPE_CHECKING:
+    from protolint.data import ReadOptions
 
-def analyse(path: str, confidence: float) -> dict[str, Any]:
-    """Cronbach's alpha, item statistics, SEM and MDC95 for an items CSV file."""
+
+def analyse(path: str, confidence: float, read_options: ReadOptions | None = None) -> dict[str, Any]:
+    """Cronbach's alpha, item statistics, SEM and MDC95 for an items file."""
     from protolint import stats
-    from protolint.ratings_csv import read_table
+    from protolint.data import read_rating_table
 
-    table = read_table(path, numeric=True, kind="item", scale="item scores")
+    table = read_rating_table(path, read_options, numeric=True, kind="item", scale="item scores")
     try:
         result = stats.cronbach_alpha(table.values, confidence=confidence)
     except ValueError as error:
@@ -47,6 +52,7 @@ def analyse(path: str, confidence: float) -> dict[str, Any]:
         "sem_definition": "SD of the total score * sqrt(1 - alpha); MDC95 = 1.96 * sqrt(2) * SEM",
         "item_statistics": items,
         "notes": notes,
+        "input": table.provenance.to_json() if table.provenance else None,
         "caution": CAUTION,
     }
 
@@ -61,6 +67,7 @@ def render_text(report: dict[str, Any]) -> str:
     lines = [
         f"Internal consistency of {report['file']}",
         f"{report['respondents']} respondents x {report['items']} items",
+        *provenance_lines(report.get("input")),
         "",
         f"Cronbach's alpha     {alpha['value']:.3f}   {level:g}% CI [{alpha['ci'][0]:.3f}, {alpha['ci'][1]:.3f}] (Feldt 1965)",
         f"SD of total score    {report['sd_total']:.3f}",
@@ -88,11 +95,13 @@ def render_text(report: dict[str, Any]) -> str:
 @click.option("--confidence", type=float, default=0.95, show_default=True, help="Confidence level of the interval.")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text", show_default=True, help="Output format.")
 @click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write to this file instead of standard output.")
-def command(items: str, confidence: float, fmt: str, output: str | None) -> None:
+@reader_options
+def command(items: str, confidence: float, fmt: str, output: str | None, read_options: ReadOptions) -> None:
     """Internal consistency of item data: Cronbach's alpha, item statistics, SEM, MDC.
 
     ITEMS.csv has a header row, one row per respondent with an id in the first column, and one
-    column per item; respondents with an empty cell are left out and counted.
+    column per item; respondents with an empty cell are left out and counted. Other formats and
+    long data (one row per item score) as for `agreement` (--item, --score, --columns sdtm-qs).
 
     \b
     Example:
@@ -102,6 +111,6 @@ def command(items: str, confidence: float, fmt: str, output: str | None) -> None
 
     if not 0.0 < confidence < 1.0:
         raise ProtolintError(f"--confidence must be between 0 and 1, got {confidence}")
-    report = analyse(items, confidence)
+    report = analyse(items, confidence, read_options)
     text = to_json(report) if fmt == "json" else render_text(report)
     emit(text, output, f"{fmt} consistency report")

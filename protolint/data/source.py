@@ -1,0 +1,83 @@
+"""A data file as a header and rows of cells, whatever its format.
+
+Every reader in this package returns a :class:`SourceTable`: the header, the rows as given
+(a cell is text, a number or ``None`` for empty; nothing is converted yet) and the place of
+each row in the file, so later steps can locate every error.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Union
+
+from protolint.data.where import Where
+
+# A cell as stored in the file: text (stripped), a number, or None for an empty cell.
+Cell = Union[str, float, None]
+
+FORMATS = ("csv", "tsv", "xlsx", "dataset-json", "xpt")
+
+# Place styles: how a row (and a cell) is named in an error.
+LINE = "line"        # text files: file:LINE
+SHEET = "sheet"      # workbooks: file:Sheet!C4
+RECORD = "record"    # Dataset-JSON (.json) and SAS transport: file:row N
+
+
+def column_letter(index: int) -> str:
+    """Spreadsheet column letters of 0-based ``index`` (0 -> A, 26 -> AA)."""
+    letters = ""
+    index += 1
+    while index:
+        index, remainder = divmod(index - 1, 26)
+        letters = chr(65 + remainder) + letters
+    return letters
+
+
+@dataclass(frozen=True)
+class SourceTable:
+    """The raw table of one data file.
+
+    ``row_numbers`` are the file's own numbers of the data rows: text lines, worksheet rows,
+    NDJSON lines, or 1-based record numbers. ``header_number`` is that of the header.
+    """
+
+    path: str
+    format: str
+    detail: str
+    header: tuple[str, ...]
+    rows: tuple[tuple[Cell, ...], ...]
+    row_numbers: tuple[int, ...]
+    header_number: int
+    style: str = LINE
+    sheet: str = ""
+    stored_formula_values: int = 0
+
+    def _place(self, number: int, column: int | None) -> str:
+        if self.style == SHEET:
+            return f"{self.sheet}!{column_letter(column)}{number}" if column is not None else f"{self.sheet}!{number}:{number}"
+        if self.style == RECORD:
+            return f"row {number}"
+        return str(number)
+
+    def header_where(self, column: int | None = None) -> Where:
+        """The header (or one header cell)."""
+        if self.style == RECORD:
+            return Where(self.path, "columns" if column is None else f"columns[{column}]")
+        return Where(self.path, self._place(self.header_number, column))
+
+    def where(self, row: int, column: int | None = None) -> Where:
+        """Data row ``row`` (0-based), or one of its cells."""
+        return Where(self.path, self._place(self.row_numbers[row], column))
+
+    def where_number(self, number: int) -> Where:
+        """A row given by its file number (e.g. the last line)."""
+        return Where(self.path, self._place(number, None))
+
+
+def cell_text(cell: Cell) -> str:
+    """A cell as text: numbers as written by Python's shortest repr (2.0 -> '2')."""
+    if cell is None:
+        return ""
+    if isinstance(cell, float):
+        return str(int(cell)) if cell.is_integer() else repr(cell)
+    return cell

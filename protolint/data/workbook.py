@@ -1,0 +1,105 @@
+"""Excel workbooks (``.xlsx``) through openpyxl.
+
+A formula is never evaluated: a formula cell is read as the value the spreadsheet program
+stored with it, and refused when the file holds no stored value (a workbook written by a
+program that does not calculate). Merged cells are refused: only their first cell holds a
+value, so reading them would silently empty the others.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import zipfile
+from typing import Any
+
+from protolint.data.source import SHEET, Cell, SourceTable, column_letter
+from protolint.data.where import DataError, Where
+
+
+def _cell(value: Any) -> Cell:
+    if value is None:
+        return None
+    if isinstance(value, bool):
+        # Excel's TRUE/FALSE are not ratings; keep the text so the coding step names it.
+        return "TRUE" if value else "FALSE"
+    if isinstance(value, (int, float)):
+        return float(value)
+    if isinstance(value, (dt.datetime, dt.date)):
+        if isinstance(value, dt.datetime) and value.time() == dt.time(0):
+            value = value.date()
+        return value.isoformat()
+    if isinstance(value, dt.time):
+        return value.isoformat()
+    text = str(value).strip()
+    return text or None
+
+
+def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
+    """The rows of one worksheet (``sheet``, default the first)."""
+    import openpyxl
+
+    try:
+        book = openpyxl.load_workbook(path, data_only=False)
+    except FileNotFoundError:
+        raise DataError(Where(path), "no such file") from None
+    except (zipfile.BadZipFile, KeyError, ValueError, OSError) as error:
+        raise DataError(Where(path), f"not a readable .xlsx workbook ({error})") from None
+    names = book.sheetnames
+    if sheet is None:
+        chosen = names[0]
+    elif sheet in names:
+        chosen = sheet
+    else:
+        raise DataError(Where(path), f"no sheet {sheet!r} in the workbook; its sheets are {', '.join(map(repr, names))}")
+    ws = book[chosen]
+    for merged in ws.merged_cells.ranges:
+        where = Where(path, f"{chosen}!{merged.coord}")
+        raise DataError(where, "merged cells; unmerge them so every column has its own header and every row its own values")
+
+    formulas = {(cell.row, cell.column) for row in ws.iter_rows() for cell in row if cell.data_type == "f"}
+    stored: Any = None
+    if formulas:
+        # The values the spreadsheet program stored when it last calculated the formulas.
+        stored = openpyxl.load_workbook(path, data_only=True)[chosen]
+
+    table: list[tuple[int, list[Cell]]] = []
+    for row in ws.iter_rows():
+        values: list[Cell] = []
+        for cell in row:
+            if (cell.row, cell.column) in formulas:
+                value = stored.cell(row=cell.row, column=cell.column).value
+                if value is None:
+                    raise DataError(
+                        Where(path, f"{chosen}!{cell.coordinate}"),
+                        f"formula {cell.value} has no stored value; formulas are not evaluated: open and save the "
+                        "workbook in a spreadsheet program, or paste the values",
+                    )
+                values.append(_cell(value))
+            else:
+                values.append(_cell(cell.value))
+        if any(v is not None for v in values):
+            table.append((row[0].row if row else 0, values))
+    if not table:
+        raise DataError(Where(path, f"{chosen}!A1"), "the sheet is empty; expected a header row")
+    header_number, header_cells = table[0]
+    width = len(header_cells)
+    while width and header_cells[width - 1] is None:
+        width -= 1
+    header = tuple("" if cell is None else (cell if isinstance(cell, str) else _number_header(cell)) for cell in header_cells[:width])
+    rows: list[tuple[Cell, ...]] = []
+    numbers: list[int] = []
+    for number, cells in table[1:]:
+        beyond = [j for j in range(width, len(cells)) if cells[j] is not None]
+        if beyond:
+            raise DataError(Where(path, f"{chosen}!{column_letter(beyond[0])}{number}"), "a value in a column that has no header")
+        rows.append(tuple(cells[:width]) + (None,) * (width - len(cells[:width])))
+        numbers.append(number)
+    detail = f"sheet {chosen!r}" + (f" (first of {len(names)})" if sheet is None and len(names) > 1 else "")
+    return SourceTable(
+        path=path, format="xlsx", detail=detail, header=header, rows=tuple(rows), row_numbers=tuple(numbers),
+        header_number=header_number, style=SHEET, sheet=chosen, stored_formula_values=len(formulas),
+    )
+
+
+def _number_header(value: float) -> str:
+    return str(int(value)) if float(value).is_integer() else repr(value)
