@@ -27,7 +27,7 @@ def wheel(tmp_path_factory) -> Path:
     result = subprocess.run([sys.executable, "-m", "pip", "wheel", "--no-deps", "--no-build-isolation", "-w", str(out), str(src)],
                             capture_output=True, text=True)
     assert result.returncode == 0, result.stderr
-    [built] = out.glob("protolint-*.whl")
+    [built] = out.glob("trial_protolint-*.whl")
     return built
 
 
