@@ -13,6 +13,7 @@ categories, and the checks on each column.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -67,12 +68,13 @@ class RatingTable:
 
 @dataclass(frozen=True)
 class _Grid:
-    """Cells arranged as the table before coding, each with the place it came from."""
+    """Cells arranged as the table before coding; ``place(i, j)`` is where cell (i, j) came
+    from (computed only for an error, so large files pay nothing for it)."""
 
     subjects: list[str]
     lines: list[int]
     cells: list[list[Cell]]
-    places: list[list[Where | None]]
+    place: Callable[[int, int], Where]
 
 
 # --- the header -------------------------------------------------------------------------
@@ -100,7 +102,7 @@ def check_header(source: SourceTable, kind: str, min_columns: int) -> tuple[str,
 def wide_rows(source: SourceTable, columns: tuple[str, ...]) -> _Grid:
     """One row per subject: ragged rows, empty or repeated subject ids refused."""
     width = len(columns) + 1
-    grid = _Grid([], [], [], [])
+    grid = _Grid([], [], [], lambda i, j: source.where(i, j + 1))
     first: dict[str, int] = {}
     for index, row in enumerate(source.rows):
         where = source.where(index)
@@ -119,7 +121,6 @@ def wide_rows(source: SourceTable, columns: tuple[str, ...]) -> _Grid:
         grid.subjects.append(subject)
         grid.lines.append(number)
         grid.cells.append(list(row[1:]))
-        grid.places.append([source.where(index, j + 1) for j in range(len(columns))])
     if len(grid.subjects) < 2:
         last = source.row_numbers[-1] if source.row_numbers else source.header_number
         raise DataError(source.where_number(last), f"found {len(grid.subjects)} subject row(s); at least 2 are needed")
@@ -139,8 +140,8 @@ def long_rows(source: SourceTable, options: ReadOptions, column_role: str, unit_
     columns: list[str] = []
     column_index: dict[str, int] = {}
     unit_index: dict[tuple[str, ...], int] = {}
-    grid = _Grid([], [], [], [])
     filled: dict[tuple[int, int], int] = {}
+    grid = _Grid([], [], [], lambda i, j: source.where(filled[(i, j)], score))
     for row in selection.rows:
         cells = source.rows[row]
         name = cell_text(cells[across])
@@ -155,14 +156,11 @@ def long_rows(source: SourceTable, options: ReadOptions, column_role: str, unit_
             columns.append(name)
             for line in grid.cells:
                 line.append(None)
-            for places in grid.places:
-                places.append(None)
         if key not in unit_index:
             unit_index[key] = len(grid.subjects)
             grid.subjects.append(" / ".join(key))
             grid.lines.append(source.row_numbers[row])
             grid.cells.append([None] * len(columns))
-            grid.places.append([None] * len(columns))
         i, j = unit_index[key], column_index[name]
         if (i, j) in filled:
             first = source.where(filled[(i, j)])
@@ -170,7 +168,6 @@ def long_rows(source: SourceTable, options: ReadOptions, column_role: str, unit_
                                                f"(first at {first}); each {column_role} scores each unit once")
         filled[(i, j)] = row
         grid.cells[i][j] = cells[score]
-        grid.places[i][j] = source.where(row, score)
     if len(columns) < min_columns:
         raise DataError(source.header_where(across),
                         f"found {len(columns)} {kind}(s) in column {source.header[across]!r}; at least {min_columns} are needed")
@@ -184,17 +181,17 @@ def long_rows(source: SourceTable, options: ReadOptions, column_role: str, unit_
 
 # --- coding -----------------------------------------------------------------------------
 
-def _number(cell: Cell, where: Where | None, column: str, scale_note: str) -> float:
+def _number(cell: Cell, grid: _Grid, i: int, j: int, column: str, scale_note: str) -> float:
     if isinstance(cell, float):
         value = cell
     else:
         try:
             value = float(str(cell))
         except ValueError:
-            raise DataError(where or Where(""), f"column {column!r}: {cell!r} is not a number{scale_note}; leave the cell "
-                                                "empty for a missing value") from None
+            raise DataError(grid.place(i, j), f"column {column!r}: {cell!r} is not a number{scale_note}; leave the cell "
+                                     "empty for a missing value") from None
     if not math.isfinite(value):
-        raise DataError(where or Where(""), f"column {column!r}: {cell_text(cell)!r} is not a finite number")
+        raise DataError(grid.place(i, j), f"column {column!r}: {cell_text(cell)!r} is not a finite number")
     return value
 
 
@@ -224,7 +221,7 @@ def code_cells(grid: _Grid, columns: tuple[str, ...], numeric: bool, scale: str 
     for i, row in enumerate(grid.cells):
         for j, cell in enumerate(row):
             if cell is not None:
-                values[i, j] = _number(cell, grid.places[i][j], columns[j], scale_note)
+                values[i, j] = _number(cell, grid, i, j, columns[j], scale_note)
     return values, None
 
 

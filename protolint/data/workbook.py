@@ -11,6 +11,7 @@ from __future__ import annotations
 import datetime as dt
 import zipfile
 from typing import Any
+from xml.etree import ElementTree
 
 from protolint.data.source import SHEET, Cell, SourceTable, column_letter
 from protolint.data.where import DataError, Where
@@ -34,16 +35,38 @@ def _cell(value: Any) -> Cell:
     return text or None
 
 
+def _merged_ranges(path: str, worksheet_path: str) -> list[str]:
+    # openpyxl's fast read-only mode does not load merged ranges; they are one element list
+    # in the worksheet's XML, read here without loading the cells a second time.
+    found: list[str] = []
+    with zipfile.ZipFile(path) as archive, archive.open(worksheet_path.lstrip("/")) as stream:
+        for _, element in ElementTree.iterparse(stream):
+            if element.tag.endswith("}mergeCell"):
+                found.append(element.get("ref", "?"))
+            element.clear()
+    return found
+
+
+def _rows(sheet: Any) -> Any:
+    # Plain values are several times faster than cell objects. A formula then reads as its
+    # text ("=B3+1"); so does a text cell that starts with "=", and both are resolved by the
+    # stored-values pass, which returns the stored result or the text itself.
+    return enumerate(sheet.iter_rows(min_row=1, min_col=1, values_only=True), start=1)
+
+
 def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
     """The rows of one worksheet (``sheet``, default the first)."""
     import openpyxl
 
-    try:
-        book = openpyxl.load_workbook(path, data_only=False)
-    except FileNotFoundError:
-        raise DataError(Where(path), "no such file") from None
-    except (zipfile.BadZipFile, KeyError, ValueError, OSError) as error:
-        raise DataError(Where(path), f"not a readable .xlsx workbook ({error})") from None
+    def load(data_only: bool) -> Any:
+        try:
+            return openpyxl.load_workbook(path, read_only=True, data_only=data_only)
+        except FileNotFoundError:
+            raise DataError(Where(path), "no such file") from None
+        except (zipfile.BadZipFile, KeyError, ValueError, OSError) as error:
+            raise DataError(Where(path), f"not a readable .xlsx workbook ({error})") from None
+
+    book = load(data_only=False)
     names = book.sheetnames
     if sheet is None:
         chosen = names[0]
@@ -52,33 +75,38 @@ def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
     else:
         raise DataError(Where(path), f"no sheet {sheet!r} in the workbook; its sheets are {', '.join(map(repr, names))}")
     ws = book[chosen]
-    for merged in ws.merged_cells.ranges:
-        where = Where(path, f"{chosen}!{merged.coord}")
-        raise DataError(where, "merged cells; unmerge them so every column has its own header and every row its own values")
-
-    formulas = {(cell.row, cell.column) for row in ws.iter_rows() for cell in row if cell.data_type == "f"}
-    stored: Any = None
-    if formulas:
-        # The values the spreadsheet program stored when it last calculated the formulas.
-        stored = openpyxl.load_workbook(path, data_only=True)[chosen]
+    merged = _merged_ranges(path, ws._worksheet_path)
+    if merged:
+        raise DataError(Where(path, f"{chosen}!{merged[0]}"),
+                        "merged cells; unmerge them so every column has its own header and every row its own values")
 
     table: list[tuple[int, list[Cell]]] = []
-    for row in ws.iter_rows():
+    formulas: dict[tuple[int, int], str] = {}
+    for number, row in _rows(ws):
         values: list[Cell] = []
-        for cell in row:
-            if (cell.row, cell.column) in formulas:
-                value = stored.cell(row=cell.row, column=cell.column).value
-                if value is None:
-                    raise DataError(
-                        Where(path, f"{chosen}!{cell.coordinate}"),
-                        f"formula {cell.value} has no stored value; formulas are not evaluated: open and save the "
-                        "workbook in a spreadsheet program, or paste the values",
-                    )
-                values.append(_cell(value))
+        for column, value in enumerate(row):
+            if isinstance(value, str) and value.startswith("="):
+                formulas[(number, column)] = value
+                values.append(None)
             else:
-                values.append(_cell(cell.value))
-        if any(v is not None for v in values):
-            table.append((row[0].row if row else 0, values))
+                values.append(_cell(value))
+        table.append((number, values))
+    book.close()
+    if formulas:
+        # The values the spreadsheet program stored when it last calculated the formulas.
+        stored_book = load(data_only=True)
+        for number, row in _rows(stored_book[chosen]):
+            for column, value in enumerate(row):
+                if (number, column) in formulas:
+                    if value is None:
+                        raise DataError(
+                            Where(path, f"{chosen}!{column_letter(column)}{number}"),
+                            f"formula {formulas[(number, column)]} has no stored value; formulas are not evaluated: "
+                            "open and save the workbook in a spreadsheet program, or paste the values",
+                        )
+                    table[number - 1][1][column] = _cell(value)
+        stored_book.close()
+    table = [(number, values) for number, values in table if any(v is not None for v in values)]
     if not table:
         raise DataError(Where(path, f"{chosen}!A1"), "the sheet is empty; expected a header row")
     header_number, header_cells = table[0]
