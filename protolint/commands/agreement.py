@@ -9,7 +9,7 @@ import click
 
 from protolint import CAUTION
 from protolint.commands._shared import OneLineCommand, emit, to_json
-from protolint.data.options import reader_options
+from protolint.data.options import TABLE_ROLES, reader_options
 from protolint.data.provenance import provenance_lines
 from protolint.errors import ProtolintError
 
@@ -221,7 +221,7 @@ def render_text(report: dict[str, Any]) -> str:
 @click.option("--confidence", type=float, default=0.95, show_default=True, help="Confidence level of the intervals.")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text", show_default=True, help="Output format.")
 @click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write to this file instead of standard output.")
-@reader_options
+@reader_options(roles=TABLE_ROLES)
 def command(ratings: str, scale: str, confidence: float, fmt: str, output: str | None, read_options: ReadOptions) -> None:
     """Reliability coefficients from rating data.
 

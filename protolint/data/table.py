@@ -251,7 +251,9 @@ def _provenance(source: SourceTable, layout: str, used: int, skipped: tuple[tupl
 
 # --- the whole read ---------------------------------------------------------------------
 
-# Per command: the role that becomes the table's columns, and the roles that identify a row.
+# Per kind of table: the role that becomes its columns, and the roles that identify a row.
+# A command reading such a table offers exactly these roles and "score"
+# (``protolint.data.options.TABLE_ROLES``), so no option it accepts is ignored.
 LAYOUTS = {
     "rater": ("rater", ("subject", "case", "item", "occasion")),
     "item": ("item", ("subject", "case", "rater", "occasion")),

@@ -310,3 +310,54 @@ def test_errors_are_one_line_in_a_real_process(tmp_path: Path) -> None:
                           cwd=ROOT, timeout=120)
     assert done.returncode == 2 and "Traceback" not in done.stderr
     assert len(done.stderr.strip().splitlines()) == 1
+
+
+def test_text_report_shows_what_was_read_and_skipped(tmp_path: Path) -> None:
+    path = write_all_formats(sdtm_qs(), tmp_path, "qs")["xpt"]
+    code, out, err = run("agreement", path, "--columns", "sdtm-qs", "--where", "QSCAT=INVENTED-8", "--where", "QSTESTCD=TOTAL")
+    assert code == 0, err
+    assert ("Input: xpt (SAS transport v5, dataset RATINGS), long layout: 67 row(s) read, 16 used; skipped: 49 not selected by "
+            "--where QSCAT=INVENTED-8 QSTESTCD=TOTAL, 1 not done (QSSTAT=NOT DONE), 1 missing score (QSSTRESN)") in out
+    assert "Columns: subject=USUBJID, item=QSTESTCD, occasion=VISITNUM, rater=QSEVALID, score=QSSTRESN" in out
+
+
+def test_input_format_overrides_the_extension(tmp_path: Path) -> None:
+    frame = wide_frame().set_axis(["TARGET", "J1", "J2", "J3", "J4"], axis=1)
+    path = tmp_path / "export.dat"
+    path.write_text(json.dumps(dataset_json(frame)), encoding="utf-8")
+    report = run_json("agreement", path, "--input-format", "dataset-json")
+    assert report["input"]["format"] == "dataset-json" and report["subjects"] == 6
+    code, _, err = run("agreement", path, "--sheet", "Scores", "--input-format", "dataset-json")
+    assert code == 2 and "--sheet applies to .xlsx workbooks only" in err
+
+
+def test_read_records_gives_rows_of_text_with_places(tmp_path: Path) -> None:
+    from protolint.data import ReadOptions, read_records
+
+    book = openpyxl.Workbook()
+    sheet = book.active
+    sheet.title = "Monitoring"
+    import datetime as dt
+
+    for row in (["Rater", "Case", "Score", "Expert", "Rated on"], ["R1", "V01", 12, 11, dt.datetime(2026, 3, 2)],
+                ["R2", "V01", None, 11, dt.datetime(2026, 3, 3)], ["R1", "V02", 20, 21, dt.datetime(2026, 3, 9)]):
+        sheet.append(row)
+    path = tmp_path / "monitoring.xlsx"
+    book.save(path)
+    options = ReadOptions(roles=(("reference", "Expert"), ("date", "Rated on")))
+    records = read_records(str(path), options, roles=("rater", "case", "score", "reference", "date"),
+                           required=("rater", "score", "date"))
+    assert [r.values for r in records.rows] == [
+        {"rater": "R1", "case": "V01", "score": "12", "reference": "11", "date": "2026-03-02"},
+        {"rater": "R1", "case": "V02", "score": "20", "reference": "21", "date": "2026-03-09"},
+    ]
+    assert str(records.rows[1].where) == f"{path}:Monitoring!4:4"
+    assert str(records.rows[1].cells["date"]) == f"{path}:Monitoring!E4"
+    assert records.provenance.skipped == (("missing score (Score)", 1),)
+
+
+def test_reader_options_refuses_an_unknown_role() -> None:
+    from protolint.data.options import reader_options
+
+    with pytest.raises(ValueError, match="unknown role"):
+        reader_options(roles=("subject", "judge"))
