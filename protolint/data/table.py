@@ -228,13 +228,14 @@ def code_cells(grid: _Grid, columns: tuple[str, ...], numeric: bool, scale: str 
 # --- column checks ----------------------------------------------------------------------
 
 def check_columns(where: Where, columns: tuple[str, ...], values: NDArray[np.float64],
-                  labels: tuple[str, ...] | None, kind: str) -> None:
-    """Refuse a column with no values, or the same value in every row (an export error)."""
+                  labels: tuple[str, ...] | None, kind: str, allow_constant: bool = False) -> None:
+    """Refuse a column with no values, or (unless ``allow_constant``) the same value in every
+    row (usually an export error)."""
     for j, name in enumerate(columns):
         present = values[~np.isnan(values[:, j]), j]
         if present.size == 0:
             raise DataError(where, f"{kind} column {name!r} has no values")
-        if present.size >= 2 and np.all(present == present[0]):
+        if not allow_constant and present.size >= 2 and np.all(present == present[0]):
             shown = labels[int(present[0])] if labels is not None else f"{present[0]:g}"
             raise DataError(where, f"{kind} column {name!r} has the same value ({shown}) in every row; check the file "
                                    "(a constant column is usually a copy or export error)")
@@ -261,7 +262,7 @@ LAYOUTS = {
 
 
 def build_table(source: SourceTable, options: ReadOptions | None = None, *, numeric: bool = True, kind: str = "rater",
-                scale: str | None = None, min_columns: int = 2) -> RatingTable:
+                scale: str | None = None, min_columns: int = 2, allow_constant: bool = False) -> RatingTable:
     """The rating table of ``source``, wide or (roles given) long.
 
     Raises
@@ -269,7 +270,7 @@ def build_table(source: SourceTable, options: ReadOptions | None = None, *, nume
     DataError
         For a short or repeated header, a ragged row, an empty or repeated subject id, a
         non-numeric cell where numbers are required, fewer than ``min_columns`` columns or 2
-        subjects, an empty or a constant column, and (long layout) an unknown column, a missing
+        subjects, an empty column or (unless ``allow_constant``) a constant one, and (long layout) an unknown column, a missing
         role or a second score for the same unit and rater.
     """
     options = options or ReadOptions()
@@ -285,6 +286,6 @@ def build_table(source: SourceTable, options: ReadOptions | None = None, *, nume
         id_header = source.header[0]
         provenance = _provenance(source, "wide", len(grid.subjects))
     values, labels = code_cells(grid, columns, numeric, scale)
-    check_columns(source.header_where(), columns, values, labels, kind)
+    check_columns(source.header_where(), columns, values, labels, kind, allow_constant)
     return RatingTable(path=source.path, id_header=id_header, columns=columns, subjects=tuple(grid.subjects),
                        lines=tuple(grid.lines), values=values, labels=labels, provenance=provenance)

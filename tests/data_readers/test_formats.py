@@ -361,3 +361,14 @@ def test_reader_options_refuses_an_unknown_role() -> None:
 
     with pytest.raises(ValueError, match="unknown role"):
         reader_options(roles=("subject", "judge"))
+
+
+def test_constant_column_refused_unless_allowed(tmp_path: Path) -> None:
+    from protolint.data import read_rating_table
+
+    path = tmp_path / "constant.tsv"
+    path.write_text("subject\ta\tb\n1\t4\t3\n2\t4\t5\n3\t4\t1\n", encoding="utf-8")
+    with pytest.raises(Exception, match=r"constant.tsv:1: rater column 'a' has the same value \(4\) in every row"):
+        read_rating_table(str(path))
+    table = read_rating_table(str(path), allow_constant=True)
+    assert table.values[:, 0].tolist() == [4.0, 4.0, 4.0]
