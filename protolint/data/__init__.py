@@ -16,11 +16,12 @@ from protolint.data.roles import PRESETS, ROLES, ReadOptions
 from protolint.data.where import DataError, Where
 
 if TYPE_CHECKING:
-    from protolint.data.records import Record, Records
+    from protolint.data.records import Record, Records, read_records, read_role_rows
+    from protolint.data.options import reader_options
     from protolint.data.table import RatingTable
 
 __all__ = ["PRESETS", "ROLES", "DataError", "Provenance", "RatingTable", "ReadOptions", "Record", "Records", "Where",
-           "read_rating_table", "read_records", "reader_options"]
+           "read_rating_table", "read_records", "read_role_rows", "reader_options"]
 
 
 def read_rating_table(path: str, options: ReadOptions | None = None, *, numeric: bool = True, kind: str = "rater",
@@ -45,7 +46,7 @@ def __getattr__(name: str) -> Any:
         from protolint.data.table import RatingTable
 
         return RatingTable
-    if name in ("read_records", "Record", "Records"):
+    if name in ("read_records", "read_role_rows", "Record", "Records"):
         from protolint.data import records
 
         return getattr(records, name)

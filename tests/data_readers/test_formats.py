@@ -372,3 +372,29 @@ def test_constant_column_refused_unless_allowed(tmp_path: Path) -> None:
         read_rating_table(str(path))
     table = read_rating_table(str(path), allow_constant=True)
     assert table.values[:, 0].tolist() == [4.0, 4.0, 4.0]
+
+
+def test_read_role_rows_renames_columns_to_roles(tmp_path: Path) -> None:
+    from protolint.data import ReadOptions, read_role_rows
+
+    frame = long_frame(wide_frame())
+    frame.columns = ["TARGET", "JUDGE", "SCORE"]
+    path = write_all_formats(frame, tmp_path, "pilot")["xpt"]
+    options = ReadOptions(roles=(("subject", "TARGET"), ("rater", "JUDGE"), ("score", "SCORE")))
+    rows, provenance = read_role_rows(str(path), options, roles=("subject", "rater", "occasion", "score"))
+    assert rows[0] == (0, ["subject", "rater", "score"])
+    assert rows[1] == (1, ["1", "judge1", "9"])  # Shrout & Fleiss (1979) Table 2, target 1, judge 1
+    assert len(rows) == 25 and provenance.rows_used == 24
+
+
+def test_read_role_rows_keeps_named_columns(tmp_path: Path) -> None:
+    from protolint.data import ReadOptions, read_role_rows
+
+    path = tmp_path / "monitoring.csv"
+    path.write_text("Rated,Rater,Case,Score,Expert,Kind\n2026-03-02,R1,V01,12,11,monitoring\n2026-03-03,R2,V01,,11,monitoring\n",
+                    encoding="utf-8")
+    rows, provenance = read_role_rows(str(path), ReadOptions(roles=(("date", "Rated"), ("reference", "Expert"))),
+                                      roles=("date", "rater", "case", "score", "reference"), keep=("kind", "instrument"))
+    assert rows == [(1, ["date", "rater", "case", "score", "reference", "kind"]),
+                    (2, ["2026-03-02", "R1", "V01", "12", "11", "monitoring"])]
+    assert provenance.skipped == (("missing score (Score)", 1),)
