@@ -46,7 +46,7 @@ def _read_text(path: str) -> str:
         raise DataError(Where(path), f"cannot read: {error.strerror}") from None
 
 
-def _check_metadata(path: str, meta: Any, where: Where) -> tuple[str, tuple[str, ...], int | None]:
+def _check_metadata(path: str, meta: Any, where: Where) -> tuple[str, tuple[str, ...], int]:
     if not isinstance(meta, dict):
         raise DataError(where, "expected a Dataset-JSON object with datasetJSONVersion, columns and rows")
     version = meta.get("datasetJSONVersion")
@@ -68,8 +68,8 @@ def _check_metadata(path: str, meta: Any, where: Where) -> tuple[str, tuple[str,
             raise DataError(Where(path, f"columns[{index}]"), "a column without a 'name'")
         names.append(name.strip())
     records = meta.get("records")
-    if records is not None and (not isinstance(records, int) or isinstance(records, bool) or records < 0):
-        raise DataError(where, f"'records' is {records!r}; expected a whole number of rows")
+    if not isinstance(records, int) or isinstance(records, bool) or records < 0:
+        raise DataError(where, f"'records' is {records!r}; Dataset-JSON 1.1 requires the number of rows there")
     label = meta.get("name") or meta.get("itemGroupOID") or "dataset"
     return f"Dataset-JSON {version}, dataset {label}", tuple(names), records
 
@@ -105,7 +105,7 @@ def read_dataset_json(path: str) -> SourceTable:
     if not isinstance(raw_rows, list):
         raise DataError(Where(path), "'rows' must be an array of row arrays")
     rows = tuple(_row(path, f"row {i}", row, names) for i, row in enumerate(raw_rows, start=1))
-    if records is not None and records != len(rows):
+    if records != len(rows):
         raise DataError(Where(path), f"'records' says {records} row(s) but the file holds {len(rows)}; the file may be truncated")
     return SourceTable(path=path, format="dataset-json", detail=detail, header=names, rows=rows,
                        row_numbers=tuple(range(1, len(rows) + 1)), header_number=0, style=RECORD)
@@ -123,7 +123,7 @@ def _read_ndjson(path: str, text: str) -> SourceTable:
     for number, line in numbered[1:]:
         rows.append(_row(path, str(number), _load(path, line, number), names))
         numbers.append(number)
-    if records is not None and records != len(rows):
+    if records != len(rows):
         raise DataError(Where(path, str(first_number)),
                         f"'records' says {records} row(s) but the file holds {len(rows)}; the file may be truncated")
     return SourceTable(path=path, format="dataset-json", detail=detail + " (NDJSON)", header=names, rows=tuple(rows),

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import textwrap
 from dataclasses import dataclass
 from typing import Any
 
@@ -66,4 +67,6 @@ def provenance_lines(summary: dict[str, Any] | None) -> list[str]:
     if summary["columns"]:
         lines.append("Columns: " + ", ".join(f"{role}={column}" for role, column in summary["columns"].items()))
     lines += [f"Note: {note}" for note in summary["notes"]]
-    return lines
+    # Wrapped like the rest of the text reports (100 columns), continuation lines indented.
+    return [wrapped for line in lines for wrapped in textwrap.wrap(line, width=100, subsequent_indent="  ",
+                                                                    break_on_hyphens=False)]

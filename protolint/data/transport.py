@@ -7,6 +7,7 @@ multiple of 80 means a truncated or damaged file, which is refused before readin
 
 from __future__ import annotations
 
+import datetime as dt
 import math
 import os
 from typing import Any
@@ -25,6 +26,11 @@ def _cell(value: Any) -> Cell:
         return None if math.isnan(value) else value
     if isinstance(value, int):
         return float(value)
+    if isinstance(value, dt.datetime) and value.time() == dt.time(0):
+        return value.date().isoformat()
+    if isinstance(value, (dt.date, dt.time)):
+        # pyreadstat turns numbers with a SAS date, time or datetime format into these.
+        return value.isoformat()
     text = str(value).strip()
     return text or None
 

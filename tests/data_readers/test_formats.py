@@ -275,6 +275,10 @@ def test_dataset_json_truncated_and_old_version(tmp_path: Path) -> None:
     path.write_text(json.dumps(short), encoding="utf-8")
     code, _, err = run("agreement", path)
     assert code == 2 and "'records' says 6 row(s) but the file holds 4" in err
+    del short["records"]
+    path.write_text(json.dumps(short), encoding="utf-8")
+    code, _, err = run("agreement", path)
+    assert code == 2 and err.strip() == f"{path}: 'records' is None; Dataset-JSON 1.1 requires the number of rows there"
     old = {"creationDateTime": "2023-01-01T00:00:00", "datasetJSONVersion": "1.0.0",
            "clinicalData": {"itemGroupData": {"IG.X": {"records": 0, "name": "X", "items": [], "itemData": []}}}}
     path = tmp_path / "old.json"
@@ -316,9 +320,11 @@ def test_text_report_shows_what_was_read_and_skipped(tmp_path: Path) -> None:
     path = write_all_formats(sdtm_qs(), tmp_path, "qs")["xpt"]
     code, out, err = run("agreement", path, "--columns", "sdtm-qs", "--where", "QSCAT=INVENTED-8", "--where", "QSTESTCD=TOTAL")
     assert code == 0, err
+    summary = " ".join(line.strip() for line in out.split("\n\n")[0].splitlines()[2:])
     assert ("Input: xpt (SAS transport v5, dataset RATINGS), long layout: 67 row(s) read, 16 used; skipped: 49 not selected by "
-            "--where QSCAT=INVENTED-8 QSTESTCD=TOTAL, 1 not done (QSSTAT=NOT DONE), 1 missing score (QSSTRESN)") in out
-    assert "Columns: subject=USUBJID, item=QSTESTCD, occasion=VISITNUM, rater=QSEVALID, score=QSSTRESN" in out
+            "--where QSCAT=INVENTED-8 QSTESTCD=TOTAL, 1 not done (QSSTAT=NOT DONE), 1 missing score (QSSTRESN)") in summary
+    assert max(len(line) for line in out.split("\n\n")[0].splitlines()[2:]) <= 100
+    assert "Columns: subject=USUBJID, item=QSTESTCD, occasion=VISITNUM, rater=QSEVALID, score=QSSTRESN" in summary
 
 
 def test_input_format_overrides_the_extension(tmp_path: Path) -> None:
