@@ -404,3 +404,38 @@ def test_read_role_rows_keeps_named_columns(tmp_path: Path) -> None:
     assert rows == [(1, ["date", "rater", "case", "score", "reference", "kind"]),
                     (2, ["2026-03-02", "R1", "V01", "12", "11", "monitoring"])]
     assert provenance.skipped == (("missing score (Score)", 1),)
+
+
+def _dsj(**changes) -> str:
+    document = dataset_json(wide_frame().set_axis(["TARGET", "J1", "J2", "J3", "J4"], axis=1))
+    document.update(changes)
+    return json.dumps(document)
+
+
+HOSTILE = {
+    "list.json": "[1, 2, 3]",
+    "columns.json": _dsj(columns="TARGET"),
+    "nameless.json": _dsj(columns=[{"itemOID": "IT.X"}]),
+    "object_cell.json": _dsj(rows=[[{"a": 1}, 1, 2, 3, 4]] * 6),
+    "rows_object.json": _dsj(rows={"a": 1}),
+    "version.json": _dsj(datasetJSONVersion="2.0"),
+    "deep.json": "[" * 100_000 + "]" * 100_000,
+    "line.ndjson": _dsj().replace("\n", " ").join(["", "\n{\"not\": \"an array\"}\n"]),
+    "empty.ndjson": "\n\n",
+    "zip.xlsx": b"PK\x03\x04 not really a workbook",
+    "text.xlsx": "subject,a,b\n1,2,3\n",
+    "empty.xpt": b"",
+    "header_only.xpt": b"HEADER RECORD*******LIBRARY HEADER RECORD!!!!!!!000000000000000000000000000000  ",
+    "latin1.csv": "subject,a,b\n1,2,3\n2,\xe9,4\n".encode("latin-1"),
+    "old.xls": b"\xd0\xcf\x11\xe0",
+}
+
+
+@pytest.mark.parametrize("name", sorted(HOSTILE))
+def test_hostile_files_give_one_line_and_exit_2(tmp_path: Path, name: str) -> None:
+    content = HOSTILE[name]
+    path = tmp_path / name
+    path.write_bytes(content if isinstance(content, bytes) else content.encode("utf-8"))
+    code, _, err = run("agreement", path)
+    assert code == 2, err
+    assert err.startswith(str(path)) and len(err.strip().splitlines()) == 1, err
