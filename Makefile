@@ -28,6 +28,8 @@ demo: $(STAMP)
 	$(VENV)/bin/protolint agreement demo_protocol/data/certification_hlsc8.csv --format json --output $(OUT)/demo-certification-agreement.json
 	$(VENV)/bin/protolint agreement demo_protocol/data/photo_grades_phg5.csv --scale ordinal --format json --output $(OUT)/demo-photo-agreement.json
 	$(VENV)/bin/protolint consistency demo_protocol/data/items_hlsc8.csv --format json --output $(OUT)/demo-items-consistency.json
+	$(PY) demo_protocol/export_qs.py $(OUT)/demo-qs-hlsc8.ndjson
+	$(VENV)/bin/protolint consistency $(OUT)/demo-qs-hlsc8.ndjson --columns sdtm-qs --where 'QSTESTCD!=HLSC8TOT'
 	$(VENV)/bin/protolint design demo_protocol/pilot/pilot_hlsc8_simulated.csv --plan $(DEMO) --cost-participant 4000 --cost-rating 150 --cost-occasion 350 --format pdf --output $(OUT)/demo-design.pdf
 	$(VENV)/bin/protolint render manual $(DEMO) --output $(OUT)/demo-manual.pdf
 	$(VENV)/bin/protolint render checklist $(DEMO) --output $(OUT)/demo-checklist.pdf
