@@ -439,3 +439,16 @@ def test_hostile_files_give_one_line_and_exit_2(tmp_path: Path, name: str) -> No
     code, _, err = run("agreement", path)
     assert code == 2, err
     assert err.startswith(str(path)) and len(err.strip().splitlines()) == 1, err
+
+
+def test_demo_qs_export_gives_the_csv_result(tmp_path: Path) -> None:
+    target = tmp_path / "qs.ndjson"
+    done = subprocess.run([sys.executable, str(ROOT / "demo_protocol" / "export_qs.py"), str(target)],
+                          capture_output=True, text=True, timeout=60)
+    assert done.returncode == 0, done.stderr
+    from_csv = run_json("consistency", ROOT / "demo_protocol" / "data" / "items_hlsc8.csv")
+    from_qs = run_json("consistency", target, "--columns", "sdtm-qs", "--where", "QSTESTCD!=HLSC8TOT")
+    assert from_qs["cronbach_alpha"] == from_csv["cronbach_alpha"]
+    assert from_qs["respondents"] == from_csv["respondents"] == 120
+    assert from_qs["input"]["rows_skipped"] == {"not selected by --where QSTESTCD!=HLSC8TOT": 120,
+                                                "not done (QSSTAT=NOT DONE)": 3}
