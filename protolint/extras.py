@@ -27,11 +27,15 @@ COMMAND_EXTRAS: dict[str, str] = {
 }
 
 # Top-level modules that only the extras install: a missing one of these is an install
-# choice, not a bug, so it gets the hint instead of a traceback.
-OPTIONAL_MODULES: frozenset[str] = frozenset({
-    "numpy", "scipy", "matplotlib", "weasyprint", "jinja2", "markdown_it", "icalendar",
-    "openpyxl", "pyreadstat", "narwhals",
-})
+# choice, not a bug, so it gets the hint instead of a traceback. A module that only one
+# extra provides names that extra (an analysis writing its report as PDF needs `documents`);
+# one that both provide names the command's own extra.
+MODULE_EXTRAS: dict[str, str] = {
+    "weasyprint": DOCUMENTS, "jinja2": DOCUMENTS, "markdown_it": DOCUMENTS, "icalendar": DOCUMENTS,
+    "openpyxl": ANALYSIS, "pyreadstat": ANALYSIS, "narwhals": ANALYSIS,
+}
+SHARED_MODULES: frozenset[str] = frozenset({"numpy", "scipy", "matplotlib"})
+OPTIONAL_MODULES: frozenset[str] = frozenset(MODULE_EXTRAS) | SHARED_MODULES
 
 
 def install_hint(extra: str) -> str:
@@ -48,7 +52,7 @@ def missing_extra_error(command: str | None, error: ModuleNotFoundError) -> Prot
     missing = (error.name or "").split(".")[0]
     if missing not in OPTIONAL_MODULES:
         return None
-    extra = COMMAND_EXTRAS.get(command or "", ANALYSIS if missing in {"openpyxl", "pyreadstat"} else DOCUMENTS)
+    extra = MODULE_EXTRAS.get(missing) or COMMAND_EXTRAS.get(command or "", ANALYSIS)
     what = f"`protolint {command}`" if command else "this command"
     return ProtolintError(
         f"{what} needs the optional '{extra}' dependencies ({missing} is not installed): {install_hint(extra)}"

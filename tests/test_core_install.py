@@ -103,6 +103,7 @@ def test_core_install_checks_the_demo_without_heavy_packages(core_venv: Path) ->
     (("render", "manual", "demo_protocol/plan.yaml", "--output", "never-written.pdf"), "documents", "jinja2"),
     (("agreement", "demo_protocol/data/certification_hlsc8.csv"), "analysis", "numpy"),
     (("size", "--effect-size", "0.5"), "analysis", "scipy"),
+    (("design", "demo_protocol/pilot/pilot_hlsc8_simulated.csv"), "analysis", "numpy"),
 ])
 def test_command_without_its_extra_prints_one_line(core_venv: Path, args: tuple[str, ...], extra: str, module: str) -> None:
     done = _run(core_venv, str(core_venv / "bin" / "protolint"), *args)

@@ -52,7 +52,7 @@ def read_records(path: str, options: ReadOptions | None, roles: tuple[str, ...],
 
 
 def read_role_rows(path: str, options: ReadOptions | None, roles: tuple[str, ...], required: tuple[str, ...] = (),
-                   keep: tuple[str, ...] = ()) -> tuple[list[tuple[int, list[str]]], Provenance]:
+                   keep: tuple[str, ...] = (), skip_missing_score: bool = True) -> tuple[list[tuple[int, list[str]]], Provenance]:
     """Rows of text with the file's row numbers, header first, each column renamed to its role.
 
     The shape a command's own validation of delimited text takes (``[(line, cells), …]``), so
@@ -60,11 +60,12 @@ def read_role_rows(path: str, options: ReadOptions | None, roles: tuple[str, ...
     instead of its CSV reader. Only the roles found appear, in the order of ``roles``; the
     numbers are text lines, worksheet rows or record numbers (the provenance's ``format`` says
     which). ``keep`` names further columns passed through under their own name when present
-    (e.g. a command's own optional columns that are not roles).
+    (e.g. a command's own optional columns that are not roles). ``skip_missing_score=False``
+    keeps rows without a score for a command that counts them itself.
     """
     options = options or ReadOptions()
     source = read_source(path, options.input_format, options.sheet)
-    selection = select_rows(source, options, roles, required)
+    selection = select_rows(source, options, roles, required, skip_missing_score)
     order = [role for role in roles if role in selection.roles]
     columns = [selection.roles[role] for role in order]
     for name in keep:

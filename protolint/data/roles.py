@@ -152,8 +152,11 @@ def _selected(cells: tuple[Cell, ...], conditions: list[Condition]) -> bool:
     return all(cell_text(cells[column]) in values for column, values in wanted.items())
 
 
-def select_rows(source: SourceTable, options: ReadOptions, wanted: tuple[str, ...], required: tuple[str, ...]) -> Selection:
+def select_rows(source: SourceTable, options: ReadOptions, wanted: tuple[str, ...], required: tuple[str, ...],
+                skip_missing_score: bool = True) -> Selection:
     """The rows of ``source`` that enter the analysis, with the reason each other row left.
+
+    ``skip_missing_score=False`` keeps rows without a score, for a caller that counts them.
 
     Raises
     ------
@@ -181,7 +184,7 @@ def select_rows(source: SourceTable, options: ReadOptions, wanted: tuple[str, ..
             counts[filter_reason] += 1
         elif status and status_column is not None and cell_text(cells[status_column]).upper() == status[1]:
             counts[f"not done ({status[0]}={status[1]})"] += 1
-        elif score is not None and cells[score] is None:
+        elif skip_missing_score and score is not None and cells[score] is None:
             counts[f"missing score ({source.header[score]})"] += 1
         else:
             kept.append(index)

@@ -452,3 +452,25 @@ def test_demo_qs_export_gives_the_csv_result(tmp_path: Path) -> None:
     assert from_qs["respondents"] == from_csv["respondents"] == 120
     assert from_qs["input"]["rows_skipped"] == {"not selected by --where QSTESTCD!=HLSC8TOT": 120,
                                                 "not done (QSSTAT=NOT DONE)": 3}
+
+
+def test_design_validation_takes_read_role_rows_from_a_workbook(tmp_path: Path) -> None:
+    """The one-function plug-in DEVELOPERS.md describes: the design command's own validation
+    of CSV rows accepts the shared reader's rows, here from an .xlsx with other column names."""
+    from protolint.analysis import design
+    from protolint.data import ReadOptions, read_role_rows
+
+    csv_path = ROOT / "demo_protocol" / "pilot" / "pilot_hlsc8_simulated.csv"
+    if not csv_path.exists():
+        pytest.skip("the design command's demo pilot is not in this checkout")
+    from_csv = design.pilot_from_rows(str(csv_path), design.read_rows(str(csv_path)))
+    frame = pd.read_csv(csv_path, dtype=str, comment="#")
+    frame = frame.rename(columns={"subject": "Participant", "rater": "Assessor", "occasion": "Session", "score": "Total"})
+    xlsx = tmp_path / "pilot.xlsx"
+    frame.to_excel(xlsx, index=False, engine="openpyxl")
+    options = ReadOptions(roles=(("subject", "Participant"), ("rater", "Assessor"), ("occasion", "Session"), ("score", "Total")))
+    rows, provenance = read_role_rows(str(xlsx), options, roles=("subject", "rater", "occasion", "score"), skip_missing_score=False)
+    from_xlsx = design.pilot_from_rows(str(xlsx), rows)
+    assert (from_xlsx.subjects, from_xlsx.raters, from_xlsx.occasions) == (from_csv.subjects, from_csv.raters, from_csv.occasions)
+    assert from_xlsx.score.tolist() == from_csv.score.tolist() and from_xlsx.missing_scores == from_csv.missing_scores
+    assert provenance.rows_used == provenance.rows_read == from_csv.n_ratings + from_csv.missing_scores
