@@ -93,6 +93,7 @@ def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
                 values.append(_cell(value))
         table.append((number, values))
     book.close()
+    text_cells = 0
     if formulas:
         # The values the spreadsheet program stored when it last calculated the formulas.
         stored_book = load(data_only=True)
@@ -106,6 +107,8 @@ def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
                             "open and save the workbook in a spreadsheet program, or paste the values",
                         )
                     table[number - 1][1][column] = _cell(value)
+                    if value == formulas[(number, column)]:
+                        text_cells += 1  # a text cell that starts with "=", not a formula
         stored_book.close()
     table = [(number, values) for number, values in table if any(v is not None for v in values)]
     if not table:
@@ -126,7 +129,7 @@ def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
     detail = f"sheet {chosen!r}" + (f" (first of {len(names)})" if sheet is None and len(names) > 1 else "")
     return SourceTable(
         path=path, format="xlsx", detail=detail, header=header, rows=tuple(rows), row_numbers=tuple(numbers),
-        header_number=header_number, style=SHEET, sheet=chosen, stored_formula_values=len(formulas),
+        header_number=header_number, style=SHEET, sheet=chosen, stored_formula_values=len(formulas) - text_cells,
     )
 
 

@@ -474,3 +474,16 @@ def test_design_validation_takes_read_role_rows_from_a_workbook(tmp_path: Path) 
     assert (from_xlsx.subjects, from_xlsx.raters, from_xlsx.occasions) == (from_csv.subjects, from_csv.raters, from_csv.occasions)
     assert from_xlsx.score.tolist() == from_csv.score.tolist() and from_xlsx.missing_scores == from_csv.missing_scores
     assert provenance.rows_used == provenance.rows_read == from_csv.n_ratings + from_csv.missing_scores
+
+
+def test_text_starting_with_equals_is_text_not_a_formula(tmp_path: Path) -> None:
+    def fill(sheet) -> None:
+        sheet["A5"] = "C4"
+        sheet["B5"], sheet["C5"], sheet["D5"] = 2, 2, 3
+        cell = sheet["A5"]
+        cell.value = "=x"
+        cell.data_type = "s"  # stored as text, as a spreadsheet program does for a quoted '=x
+
+    path = workbook(tmp_path, "text_equals.xlsx", fill)
+    report = run_json("agreement", path)
+    assert report["subjects"] == 4 and report["input"]["notes"] == []
