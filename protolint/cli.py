@@ -12,6 +12,7 @@ import importlib.util
 import click
 
 from protolint import __version__
+from protolint.commands.base import ProtolintGroup
 
 # name -> (module, one-line help). The help is repeated here so that ``protolint --help``
 # can list every command without importing any of them.
@@ -29,7 +30,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
 }
 
 
-class LazyGroup(click.Group):
+class LazyGroup(ProtolintGroup):
     """A click group that imports a command's module only when that command runs."""
 
     def list_commands(self, ctx: click.Context) -> list[str]:

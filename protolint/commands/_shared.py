@@ -1,4 +1,4 @@
-"""Helpers shared by the commands: one-line usage errors, JSON without NaN, atomic output."""
+"""Helpers shared by the commands: JSON without NaN, atomic output (and the old name of the command class)."""
 
 from __future__ import annotations
 
@@ -8,7 +8,7 @@ from typing import Any
 
 import click
 
-from protolint.errors import ProtolintError
+from protolint.commands.base import ProtolintCommand
 
 
 def _finite(value: Any) -> Any:
@@ -27,18 +27,9 @@ def to_json(report: dict[str, Any]) -> str:
     return json.dumps(_finite(report), indent=2, allow_nan=False) + "\n"
 
 
-class OneLineCommand(click.Command):
-    """A click command whose usage errors are one line on stderr with exit code 2.
-
-    click's own usage errors print the usage block as well; scripts and CI logs are easier
-    to read with just ``protolint: <message>``.
-    """
-
-    def parse_args(self, ctx: click.Context, args: list[str]) -> list[str]:
-        try:
-            return super().parse_args(ctx, args)
-        except click.UsageError as error:
-            raise ProtolintError(f"{self.name}: {error.format_message()}") from None
+# The one command class lives in ``protolint.commands.base``; this name is kept for commands
+# written before it existed.
+OneLineCommand = ProtolintCommand
 
 
 def emit(text: str, output: str | None, what: str) -> None:

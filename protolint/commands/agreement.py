@@ -8,9 +8,8 @@ from typing import TYPE_CHECKING, Any
 import click
 
 from protolint import CAUTION
-from protolint.commands._shared import OneLineCommand, emit, to_json
-from protolint.data.options import TABLE_ROLES, reader_options
-from protolint.data.provenance import provenance_lines
+from protolint.commands._shared import emit, to_json
+from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 
 if TYPE_CHECKING:
@@ -214,7 +213,7 @@ def render_text(report: dict[str, Any]) -> str:
     return "\n".join(lines) + "\n"
 
 
-@click.command("agreement", cls=OneLineCommand)
+@click.command("agreement", cls=ProtolintCommand)
 @click.argument("ratings", metavar="RATINGS.csv", type=click.Path(dir_okay=False))
 @click.option("--scale", type=click.Choice(SCALES), default="interval", show_default=True,
               help="Level of measurement of the ratings; selects the coefficients.")

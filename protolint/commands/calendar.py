@@ -6,8 +6,10 @@ import sys
 
 import click
 
+from protolint.commands.base import ProtolintCommand
 
-@click.command("calendar")
+
+@click.command("calendar", cls=ProtolintCommand)
 @click.argument("plan", metavar="PLAN")
 @click.option("--output", "-o", type=click.Path(dir_okay=False, allow_dash=True),
               help="iCalendar file to write (default: standard output).")

@@ -9,6 +9,7 @@ from datetime import date
 import click
 
 from protolint import __version__
+from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 from protolint.findings import CheckResult, PlanResult, Severity
 
@@ -24,7 +25,7 @@ def _parse_as_of(ctx: click.Context, param: click.Parameter, value: str | None) 
         raise click.BadParameter(f"{value!r} is not a date written YYYY-MM-DD") from None
 
 
-@click.command("check")
+@click.command("check", cls=ProtolintCommand)
 @click.argument("plans", nargs=-1, required=True, metavar="PLAN...")
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True,
               help="Report format.")

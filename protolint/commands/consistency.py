@@ -7,9 +7,7 @@ from typing import TYPE_CHECKING, Any
 import click
 
 from protolint import CAUTION
-from protolint.commands._shared import OneLineCommand
-from protolint.data.options import TABLE_ROLES, reader_options
-from protolint.data.provenance import provenance_lines
+from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 
 if TYPE_CHECKING:
@@ -90,7 +88,7 @@ def render_text(report: dict[str, Any]) -> str:
     return "\n".join(lines) + "\n"
 
 
-@click.command("consistency", cls=OneLineCommand)
+@click.command("consistency", cls=ProtolintCommand)
 @click.argument("items", metavar="ITEMS.csv", type=click.Path(dir_okay=False))
 @click.option("--confidence", type=float, default=0.95, show_default=True, help="Confidence level of the interval.")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text", show_default=True, help="Output format.")

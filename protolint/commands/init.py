@@ -6,10 +6,11 @@ from pathlib import Path
 
 import click
 
+from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 
 
-@click.command("init")
+@click.command("init", cls=ProtolintCommand)
 @click.argument("path", default="plan.yaml", type=click.Path(dir_okay=False))
 @click.option("--force", is_flag=True, help="Overwrite PATH if it exists.")
 def command(path: str, force: bool) -> None:

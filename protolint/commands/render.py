@@ -7,6 +7,7 @@ from pathlib import PurePath
 
 import click
 
+from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 from protolint.render import FORMATS, KINDS, PAPERS
 
@@ -41,7 +42,7 @@ class _TerminalProgress:
             click.echo("\r" + " " * self.width + "\r", err=True, nl=False)
 
 
-@click.command("render")
+@click.command("render", cls=ProtolintCommand)
 @click.argument("kind", type=click.Choice(KINDS))
 @click.argument("plan", metavar="PLAN")
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="pdf", show_default=True,

@@ -11,6 +11,7 @@ from typing import Any, Sequence
 
 import click
 
+from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 from protolint.rules.registry import RuleMeta, iter_metas
 
@@ -150,7 +151,7 @@ def explain_text(meta: RuleMeta, width: int | None = None) -> str:
     return "\n\n".join(blocks)
 
 
-@click.command(name="rules")
+@click.command("rules", cls=ProtolintCommand)
 @click.argument("rule_id", required=False, metavar="[RULE-ID | FAMILY]")
 @click.option(
     "--format",

@@ -6,8 +6,10 @@ import json
 
 import click
 
+from protolint.commands.base import ProtolintCommand
 
-@click.command("schema")
+
+@click.command("schema", cls=ProtolintCommand)
 @click.option("--policy", "which", flag_value="policy.schema.json", help="Print the policy-file schema instead.")
 @click.option("--plan", "which", flag_value="plan.schema.json", default=True, help="Print the plan schema (default).")
 def command(which: str) -> None:

@@ -8,7 +8,7 @@ from typing import Any
 import click
 
 from protolint import CAUTION
-from protolint.commands._shared import OneLineCommand
+from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 
 # --curve: reliabilities 0.40, 0.45, ..., 1.00.
@@ -194,7 +194,7 @@ def render_text(report: dict[str, Any]) -> str:
     return "\n".join(lines) + "\n"
 
 
-@click.command("size", cls=OneLineCommand)
+@click.command("size", cls=ProtolintCommand)
 @click.option("--effect-size", type=float, help="True-score standardised difference d (two-group) or correlation r (correlation).")
 @click.option("--difference", type=float, help="Difference in means, with --sd, instead of --effect-size.")
 @click.option("--sd", type=float, help="Standard deviation of the outcome, with --difference.")
