@@ -44,12 +44,32 @@ class BandScale:
                 return label
         return self.labels[-1]
 
+    def judge(self, value: float, low: float | None = None, high: float | None = None) -> str:
+        """The band of a coefficient judged by its confidence interval.
+
+        With an interval, the bands of its two ends: ``"good"`` when both ends fall in one
+        band, ``"moderate to excellent"`` when the interval spans several (Koo & Li 2016 ask
+        that the interval, not the estimate, be judged). Without one, the band of ``value``.
+        """
+        if low is None or high is None or not (math.isfinite(low) and math.isfinite(high)):
+            return self.classify(value)
+        lower, upper = self.classify(low), self.classify(high)
+        return lower if lower == upper else f"{lower} to {upper}"
+
+    def describe(self) -> str:
+        """The bands in one line, e.g. ``"poor < 0.5 <= moderate < 0.75 <= good ..."``."""
+        below, above = ("<=", "<") if self.upper_closed else ("<", "<=")
+        parts = [self.labels[0]]
+        for cut, label in zip(self.cuts, self.labels[1:]):
+            parts.append(f"{below} {cut:g} {above} {label}")
+        return " ".join(parts)
+
 
 KOO_LI_2016 = BandScale(
     name="Koo & Li 2016",
     reference=(
         "Koo, T. K. & Li, M. Y. (2016). A guideline of selecting and reporting intraclass "
-        "correlation coefficients for reliability research. Journal of Chiropractic Medicine, 15, 155-163."
+        "correlation coefficients for reliability research. Journal of Chiropractic Medicine, 15(2), 155-163."
     ),
     cuts=(0.5, 0.75, 0.9),
     labels=("poor", "moderate", "good", "excellent"),
@@ -60,7 +80,7 @@ LANDIS_KOCH_1977 = BandScale(
     name="Landis & Koch 1977",
     reference=(
         "Landis, J. R. & Koch, G. G. (1977). The measurement of observer agreement for "
-        "categorical data. Biometrics, 33, 159-174."
+        "categorical data. Biometrics, 33(1), 159-174."
     ),
     cuts=(0.0, 0.2, 0.4, 0.6, 0.8),
     labels=("poor", "slight", "fair", "moderate", "substantial", "almost perfect"),

@@ -92,7 +92,10 @@ def test_krippendorff_example_with_missing_cells(scale: str, alpha: float) -> No
     # Krippendorff (2011): .743 / .815 / .849; 7 of the 48 cells are empty.
     assert round(report["coefficients"]["krippendorff_alpha"]["value"], 3) == alpha
     assert report["missing"] == 7
-    assert any("dropped" in note for note in report["notes"])
+    assert any("7 ratings of 48 are missing" in note for note in report["notes"])
+    # Krippendorff's alpha pairs the values of the 11 units with two or more of them (Krippendorff 2011).
+    alpha = report["coefficients"]["krippendorff_alpha"]
+    assert (alpha["subjects_used"], alpha["ratings_used"]) == (11, 40)
 
 
 def test_confidence_option_changes_intervals() -> None:
@@ -105,8 +108,9 @@ def test_text_report_names_bands_and_caution() -> None:
     code, out, err = run(str(SHROUT_FLEISS))
     assert code == 0 and err == ""
     assert "ICC(2,1) = ICC(A,1)" in out
-    assert "Koo & Li 2016" in out and "Landis & Koch 1977" in out
-    assert "poor (Koo & Li 2016)" in out
+    # One interpretation scheme per report, named with its cut points.
+    assert "Koo & Li 2016" in out and "Landis & Koch" not in out
+    assert "poor < 0.5 <= moderate < 0.75 <= good < 0.9 <= excellent" in out
     assert "Not computed:" in out
     assert out.rstrip().endswith(CAUTION.split()[-1])
     assert " ".join(out.split()).endswith(" ".join(CAUTION.split()))
@@ -128,7 +132,6 @@ BAD_FILES = {
     "text.csv": ("subject,a,b\n1,2,3\n2,3,high\n", ":3: column 'b': 'high' is not a number (the scale is interval)"),
     "one_rater.csv": ("subject,a\n1,2\n2,3\n", ":1: found 1 rater column(s)"),
     "one_subject.csv": ("subject,a,b\n1,2,3\n", ":2: found 1 subject row(s); at least 2 are needed"),
-    "constant.csv": ("subject,a,b\n1,4,3\n2,4,5\n3,4,1\n", ":1: rater column 'a' has the same value (4) in every row"),
     "duplicate.csv": ("subject,a,b\n1,2,3\n1,3,4\n", ":3: subject '1' appears again (first on line 2)"),
     "infinite.csv": ("subject,a,b\n1,2,inf\n2,3,4\n", ":2: column 'b': 'inf' is not a finite number"),
     "empty_column.csv": ("subject,a,b\n1,2,\n2,3,\n", ":1: rater column 'b' has no values"),
@@ -183,3 +186,169 @@ def test_runs_as_module_in_a_subprocess() -> None:
         capture_output=True, text=True, env=env, cwd=ROOT,
     )
     assert bad.returncode == 2 and "Traceback" not in bad.stderr
+
+
+# --- issue: statistics output a statistician accepts ---------------------------------------
+
+def _has_varying_raters_fleiss() -> bool:
+    import numpy as np
+
+    from protolint import stats
+
+    data = np.array([[1, 1, np.nan], [1, 2, 2], [2, 2, 2], [1, 1, 1]], dtype=float)
+    return hasattr(stats.fleiss_kappa(data), "n_ratings")
+
+
+@pytest.mark.skipif(not _has_varying_raters_fleiss(), reason="statistics core without Fleiss' kappa for varying raters")
+def test_fleiss_with_missing_ratings_uses_the_varying_raters_form() -> None:
+    import pandas as pd
+    from irrCAC.raw import CAC
+
+    report = run_json(str(KRIPPENDORFF), "--scale", "nominal")
+    fleiss = report["coefficients"]["fleiss_kappa"]
+    # irrCAC 0.4.4, CAC(data).fleiss(): Gwet's generalisation of Fleiss (1971) to a varying number
+    # of raters per subject, on the same data (7 of 48 cells empty).
+    expected = CAC(pd.read_csv(KRIPPENDORFF, index_col=0)).fleiss()["est"]["coefficient_value"]
+    assert fleiss["value"] == pytest.approx(expected, abs=1e-5)
+    assert expected == pytest.approx(0.76117, abs=1e-5)
+    # The 11 subjects with at least two ratings, and their 40 ratings, like Krippendorff's alpha.
+    alpha = report["coefficients"]["krippendorff_alpha"]
+    assert (fleiss["subjects_used"], fleiss["ratings_used"]) == (alpha["subjects_used"], alpha["ratings_used"]) == (11, 40)
+    assert not any("Fleiss" in note and "dropped" in note for note in report["notes"])
+
+
+def test_fleiss_reports_subjects_and_ratings_used_either_way() -> None:
+    fleiss = run_json(str(KRIPPENDORFF), "--scale", "nominal")["coefficients"]["fleiss_kappa"]
+    assert fleiss["subjects_used"] * 2 <= fleiss["ratings_used"] <= 48 - 7
+
+
+def test_declared_categories_reach_weighted_kappa_and_gwet(tmp_path: Path) -> None:
+    import numpy as np
+    import pandas as pd
+    from irrCAC.raw import CAC
+    from sklearn.metrics import cohen_kappa_score
+
+    rows = [line.split(",") for line in SKIN.read_text().splitlines()[1:]]
+    pairs = np.array([[float(a), float(b)] for _, a, b in rows])
+    observed = sorted(set(pairs.ravel().tolist()))
+    declared = list(range(int(min(observed)), int(max(observed)) + 2))  # one category above any rating
+    spec = f"{declared[0]}-{declared[-1]}"
+    report = run_json(str(SKIN), "--scale", "ordinal", "--categories", spec)
+    coefficients = report["coefficients"]
+    assert report["categories"]["unused"] == [str(declared[-1])]
+    assert report["categories"]["declared"] == [str(c) for c in declared]
+    # scikit-learn's weighted kappa over the declared labels (index weights = value weights for
+    # equally spaced categories).
+    for key, weights in (("cohen_kappa_linear", "linear"), ("cohen_kappa_quadratic", "quadratic")):
+        expected = cohen_kappa_score(pairs[:, 0], pairs[:, 1], labels=[float(c) for c in declared], weights=weights)
+        assert coefficients[key]["value"] == pytest.approx(expected, abs=1e-9)
+    # Gwet's AC1 and AC2 with the category set given to irrCAC 0.4.4: an unused category changes
+    # chance agreement, so the values differ from those on the observed categories.
+    frame = pd.DataFrame(pairs)
+    ac1 = CAC(frame, categories=[float(c) for c in declared]).gwet()["est"]["coefficient_value"]
+    ac2 = CAC(frame, weights="quadratic", categories=[float(c) for c in declared]).gwet()["est"]["coefficient_value"]
+    assert coefficients["gwet_ac1"]["value"] == pytest.approx(ac1, abs=1e-5)
+    assert coefficients["gwet_ac2"]["value"] == pytest.approx(ac2, abs=1e-5)
+    plain = run_json(str(SKIN), "--scale", "ordinal")["coefficients"]
+    assert plain["gwet_ac1"]["value"] != pytest.approx(coefficients["gwet_ac1"]["value"], abs=1e-6)
+    code, out, _ = run(str(SKIN), "--scale", "ordinal", "--categories", spec)
+    assert code == 0 and f"Unused: {declared[-1]}." in out
+
+
+def test_categories_from_the_plan_scale() -> None:
+    plan = ROOT / "demo_protocol" / "plan.yaml"
+    photos = ROOT / "demo_protocol" / "data" / "photo_grades_phg5.csv"
+    report = run_json(str(photos), "--scale", "ordinal", "--plan", str(plan), "--instrument", "PHG-5")
+    # The demo plan's PHG-5 scale: ordinal, min 0, max 4, 5 levels.
+    assert report["categories"]["declared"] == ["0", "1", "2", "3", "4"]
+    assert "PHG-5" in report["categories"]["source"]
+    code, _, err = run(str(photos), "--scale", "ordinal", "--plan", str(plan), "--instrument", "NOPE")
+    assert code == 2 and "no instrument 'NOPE'" in err and err.count("\n") == 1
+
+
+def test_a_rating_outside_the_declared_categories_is_refused() -> None:
+    code, out, err = run(str(SKIN), "--scale", "ordinal", "--categories", "0,1")
+    assert code == 2 and out == "" and "not among the declared categories" in err and err.count("\n") == 1
+
+
+def test_a_contingency_table_is_refused_or_read_with_table(tmp_path: Path) -> None:
+    import numpy as np
+    from sklearn.metrics import cohen_kappa_score
+
+    path = tmp_path / "crosstab.csv"
+    counts = [[20, 5, 1], [4, 15, 3], [0, 2, 10]]
+    path.write_text("rater1,0,1,2\n" + "".join(f"{i},{','.join(map(str, row))}\n" for i, row in enumerate(counts)))
+    code, out, err = run(str(path), "--scale", "ordinal")
+    assert code == 2 and out == "" and "looks like a contingency table" in err and "--table" in err
+    report = run_json(str(path), "--scale", "ordinal", "--table")
+    assert report["read_as_contingency_table"] is True and report["subjects"] == sum(map(sum, counts))
+    pairs = np.array([(i, j) for i, row in enumerate(counts) for j, n in enumerate(row) for _ in range(n)])
+    # scikit-learn on the 60 rating pairs the table counts.
+    assert report["coefficients"]["cohen_kappa"]["value"] == pytest.approx(cohen_kappa_score(pairs[:, 0], pairs[:, 1]), abs=1e-9)
+    assert report["coefficients"]["cohen_kappa_quadratic"]["value"] == pytest.approx(
+        cohen_kappa_score(pairs[:, 0], pairs[:, 1], weights="quadratic"), abs=1e-9)
+
+
+def test_a_constant_rater_is_computed_where_defined_with_a_warning(tmp_path: Path) -> None:
+    path = tmp_path / "constant.csv"
+    path.write_text("subject,a,b\n1,4,3\n2,4,5\n3,4,1\n4,4,4\n5,4,2\n")
+    report = run_json(str(path), "--scale", "nominal")
+    # One rater who gives one category throughout agrees no better than chance: Cohen's kappa 0
+    # (po = pe; Cohen 1960's definition, common practice).
+    assert report["coefficients"]["cohen_kappa"]["value"] == pytest.approx(0.0, abs=1e-12)
+    assert any("'a' gives 4 to every subject" in warning for warning in report["warnings"])
+
+
+def test_two_subjects_give_a_warning_and_no_interval(tmp_path: Path) -> None:
+    path = tmp_path / "two.csv"
+    path.write_text("subject,a,b\n1,1,1\n2,2,2\n")
+    report = run_json(str(path), "--scale", "nominal")
+    kappa = report["coefficients"]["cohen_kappa"]
+    assert kappa["value"] == pytest.approx(1.0)
+    assert kappa["ci"] is None and kappa["ci_method"] is None and "standard error is 0" in kappa["no_interval_reason"]
+    assert "estimate alone" in kappa["interpretation"]
+    assert any("rest on 2 subjects" in warning for warning in report["warnings"])
+
+
+def test_interpretation_judges_the_interval_under_one_named_scheme() -> None:
+    report = run_json(str(SHROUT_FLEISS))
+    assert report["interpretation_scheme"]["name"] == "Koo & Li 2016"
+    assert report["bands"] == {"icc": "Koo & Li 2016", "kappa_type": "Koo & Li 2016"}
+    for key, entry in report["coefficients"].items():
+        low, high = entry["ci"]
+        assert entry["interpretation"] in (_koo_li(low), f"{_koo_li(low)} to {_koo_li(high)}"), key
+    # ICC(3,k) = 0.909, 95 % CI [0.676, 0.986]: "moderate to excellent", not "excellent".
+    assert report["coefficients"]["ICC(3,k)"]["interpretation"] == "moderate to excellent"
+    nominal = run_json(str(FLEISS_1971), "--scale", "nominal")
+    assert nominal["interpretation_scheme"]["name"] == "Landis & Koch 1977"
+
+
+def _koo_li(x: float) -> str:
+    # Koo & Li (2016), J Chiropr Med 15:155-163: below .50 poor, .50-.75 moderate, .75-.90 good, above .90 excellent.
+    return "poor" if x < 0.5 else "moderate" if x < 0.75 else "good" if x < 0.9 else "excellent"
+
+
+def test_text_names_coefficients_and_interval_methods_in_words() -> None:
+    code, out, _ = run(str(FLEISS_1971), "--scale", "nominal")
+    assert code == 0
+    for key in ("fleiss_kappa", "cohen_kappa", "gwet_ac1", "krippendorff_alpha"):
+        assert key not in out
+    assert "Percentile bootstrap over subjects, 1000 replicates." in out
+    assert "Student t interval with Gwet's (2014) variance." in out
+    assert "Cohen's kappa: Cohen's kappa needs exactly 2 raters and the file has 6; see Fleiss' kappa." in out
+    # Every line of prose ends its sentence (no clause cut off at a line end).
+    code, out, _ = run(str(FLEISS_1971), "--scale", "ordinal")
+    assert "rerun with --scale interval if the scores are equally spaced." in " ".join(out.split())
+
+
+def test_bootstrap_option_sets_the_replicates_and_zero_gives_no_interval() -> None:
+    alpha = run_json(str(FLEISS_1971), "--scale", "nominal", "--bootstrap", "200")["coefficients"]["krippendorff_alpha"]
+    assert alpha["ci_method"] == "percentile bootstrap over subjects, 200 replicates"
+    none = run_json(str(FLEISS_1971), "--scale", "nominal", "--bootstrap", "0")
+    assert none["coefficients"]["krippendorff_alpha"]["ci"] is None
+    assert none["coefficients"]["krippendorff_alpha"]["no_interval_reason"] == "no interval: --bootstrap 0"
+    assert none["bootstrap_replicates"] == 0
+    code, _, err = run(str(FLEISS_1971), "--bootstrap", "-1")
+    assert code == 2 and "--bootstrap must be 0" in err
+    _, help_text, _ = run("--help")
+    assert "--bootstrap N" in help_text and "[default: 1000]" in help_text
