@@ -76,7 +76,6 @@ def test_missing_answers_are_dropped_and_reported(tmp_path: Path) -> None:
     [
         ("", ":1: the file is empty"),
         ("id,q1,q2\n1,2,3\n2,x,4\n", ":3: column 'q1': 'x' is not a number"),
-        ("id,q1,q2\n1,2,3\n2,2,4\n", ":1: item column 'q1' has the same value (2) in every row"),
         ("id\tq1\tq2\n1\t2\t3\n", ":1: the header is one field containing tabs"),
         ("id,q1\n1,2\n2,3\n", ":1: found 1 item column(s)"),
     ],
@@ -100,3 +99,30 @@ def test_subprocess_with_output_file(tmp_path: Path) -> None:
     assert done.returncode == 0 and done.stdout == ""
     assert "wrote json consistency report" in done.stderr
     assert json.loads(target.read_text())["cronbach_alpha"]["value"] == pytest.approx(0.9093155, abs=1e-6)
+
+
+def test_a_ceiling_item_is_computed_with_a_warning(tmp_path: Path) -> None:
+    rng = np.random.default_rng(7)
+    x = np.round(rng.normal(size=(40, 1)) + rng.normal(size=(40, 3)), 2)
+    x = np.column_stack([x, np.full(40, 4.0)])  # q4: every respondent at the ceiling
+    path = tmp_path / "ceiling.csv"
+    path.write_text("id,q1,q2,q3,q4\n" + "".join(f"r{i}," + ",".join(f"{v:g}" for v in row) + "\n" for i, row in enumerate(x)))
+    code, out, err = run(str(path), "--format", "json")
+    assert code == 0, err
+    report = json.loads(out)
+    # pingouin's alpha on the same four items (the constant item adds no variance).
+    expected = pg.cronbach_alpha(pd.DataFrame(x, columns=["q1", "q2", "q3", "q4"]))[0]
+    assert report["cronbach_alpha"]["value"] == pytest.approx(expected, abs=1e-10)
+    assert any("'q4' has the same score (4)" in warning for warning in report["warnings"])
+    assert report["item_statistics"][3]["corrected_item_total_r"] is None
+
+
+def test_the_sem_says_which_reliability_it_rests_on() -> None:
+    code, out, _ = run(str(SHROUT_FLEISS), "--format", "json")
+    basis = json.loads(out)["sem_reliability"]
+    assert basis["coefficient"] == "cronbach_alpha" and basis["kind"] == "internal consistency"
+    assert "not the test-retest or inter-rater SEM" in basis["note"]
+    code, out, _ = run(str(SHROUT_FLEISS))
+    flat = " ".join(out.split())
+    assert "Which reliability the SEM rests on: Cronbach's alpha (internal consistency" in flat
+    assert "Alpha rests on 6 respondents" in flat
