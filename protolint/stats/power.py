@@ -2,16 +2,20 @@
 
 Two designs: a two-group comparison of means (exact power from the noncentral t
 distribution) and a correlation between two measures that each carry their own reliability
-(Fisher z). Measurement error attenuates the effect; two conventions are offered by name:
+(Fisher z). Measurement error attenuates the effect; two conventions are offered, each named
+by what it assumes the reliability coefficient rho to be:
 
-``"ctt"`` (default)
-    Classical test theory: reliability rho is the ratio of true-score to observed-score
-    variance, the observed SD grows by 1/sqrt(rho), so the observed standardised difference is
-    ``d * sqrt(rho)`` and the required N grows as 1/rho.
-``"true-score"``
-    The coefficient is read as the correlation of observed with true score, giving
-    ``d * rho`` and N growing as 1/rho^2 -- the same as a correlation between two measures
-    that each have reliability rho.
+``"variance-ratio"`` (default; old name ``"ctt"``)
+    Classical test theory: rho is the ratio of true-score to observed-score variance, the
+    observed SD grows by 1/sqrt(rho), so the observed standardised difference is
+    ``d * sqrt(rho)`` and the required N grows as 1/rho. A plan's sample-size rules use this.
+``"observed-true-correlation"`` (old name ``"true-score"``)
+    rho is read as the correlation of observed with true score, giving ``d * rho`` and N
+    growing as 1/rho^2 -- the same as a correlation between two measures that each have
+    reliability rho.
+
+The old names stay accepted. ``"true-score"`` was renamed because a plan's ``effect_basis:
+true-score`` means something else: that the effect is stated on the error-free scale.
 """
 
 from __future__ import annotations
@@ -23,7 +27,16 @@ from dataclasses import dataclass
 from protolint.stats import _checks
 from protolint.stats._results import SolverError
 
-CONVENTIONS: tuple[str, ...] = ("ctt", "true-score")
+CONVENTIONS: tuple[str, ...] = ("variance-ratio", "observed-true-correlation")
+# Earlier names, still accepted.
+CONVENTION_ALIASES: dict[str, str] = {"ctt": "variance-ratio", "true-score": "observed-true-correlation"}
+
+
+def convention_name(convention: str) -> str:
+    """The current name of an attenuation convention (old names map to new ones)."""
+    name = CONVENTION_ALIASES.get(convention, convention)
+    _checks.choice("convention", name, CONVENTIONS + tuple(CONVENTION_ALIASES))
+    return name
 
 # A study larger than this per group is treated as "no feasible answer" rather than searched for.
 _MAX_N = 10_000_000
@@ -58,7 +71,7 @@ def reliability_of_mean(single: float, raters: int = 1, occasions: int = 1) -> f
     return m * rho / (1.0 + (m - 1) * rho)
 
 
-def attenuated_effect_size(effect_size: float, reliability: float, convention: str = "ctt") -> float:
+def attenuated_effect_size(effect_size: float, reliability: float, convention: str = "variance-ratio") -> float:
     """Observed standardised effect under imperfect reliability.
 
     Parameters
@@ -67,8 +80,8 @@ def attenuated_effect_size(effect_size: float, reliability: float, convention: s
         True-score standardised difference d.
     reliability : float
         Reliability of the outcome, in (0, 1].
-    convention : {"ctt", "true-score"}
-        ``d * sqrt(rho)`` or ``d * rho`` (see the module docstring).
+    convention : {"variance-ratio", "observed-true-correlation"}
+        ``d * sqrt(rho)`` or ``d * rho`` (see the module docstring; old names accepted).
 
     Returns
     -------
@@ -81,8 +94,7 @@ def attenuated_effect_size(effect_size: float, reliability: float, convention: s
     """
     d = _checks.real("effect_size", effect_size)
     rho = _checks.in_range("reliability", reliability, 0.0, 1.0, low_open=True)
-    _checks.choice("convention", convention, CONVENTIONS)
-    return d * math.sqrt(rho) if convention == "ctt" else d * rho
+    return d * math.sqrt(rho) if convention_name(convention) == "variance-ratio" else d * rho
 
 
 @dataclass(frozen=True, slots=True)
@@ -133,7 +145,7 @@ def power_two_group(
     alpha: float = 0.05,
     sides: int = 2,
     reliability: float = 1.0,
-    convention: str = "ctt",
+    convention: str = "variance-ratio",
 ) -> PowerResult:
     """Exact power of the two-sample t test under imperfect reliability.
 
@@ -147,7 +159,7 @@ def power_two_group(
     sides : {1, 2}, default 2
     reliability : float, default 1.0
         Reliability of the outcome, in (0, 1].
-    convention : {"ctt", "true-score"}, default "ctt"
+    convention : {"variance-ratio", "observed-true-correlation"}, default "variance-ratio"
 
     Returns
     -------
@@ -280,7 +292,7 @@ def sample_size_two_group(
     ratio: float = 1.0,
     dropout: float = 0.0,
     reliability: float = 1.0,
-    convention: str = "ctt",
+    convention: str = "variance-ratio",
 ) -> SampleSizeResult:
     """Reliability-adjusted sample size for comparing two group means.
 
@@ -299,7 +311,7 @@ def sample_size_two_group(
     reliability : float, default 1.0
         Reliability of the outcome as analysed, in (0, 1]; for a mean of several ratings
         use :func:`reliability_of_mean` first.
-    convention : {"ctt", "true-score"}, default "ctt"
+    convention : {"variance-ratio", "observed-true-correlation"}, default "variance-ratio"
         Attenuation convention (see the module docstring).
 
     Returns
@@ -365,7 +377,7 @@ def sample_size_two_group(
         ratio=r,
         dropout=loss,
         reliability=rho,
-        convention=convention,
+        convention=convention_name(convention),
         n_per_group=groups,
         n_total=sum(groups),
         achieved_power=_t_power(groups[0], groups[1], d_obs, a, s),
@@ -375,7 +387,7 @@ def sample_size_two_group(
         inflation=sum(groups) / sum(perfect),
         n_per_group_enrolled=(enrolled[0], enrolled[1]),
         n_total_enrolled=enrolled[0] + enrolled[1],
-        method=f"two-sample t test, exact noncentral t; attenuation convention {convention!r}",
+        method=f"two-sample t test, exact noncentral t; attenuation convention {convention_name(convention)!r}",
     )
 
 
@@ -590,3 +602,56 @@ def sample_size_correlation(
         n_enrolled=math.ceil(round(n / (1.0 - loss), 9)),
         method="Fisher z test of a correlation, attenuated by r*sqrt(rho_x*rho_y)",
     )
+
+
+def reliability_for_power(
+    n_per_group: int | tuple[int, int],
+    effect_size: float,
+    alpha: float = 0.05,
+    power: float = 0.8,
+    sides: int = 2,
+    convention: str = "variance-ratio",
+) -> float | None:
+    """The lowest reliability at which ``n_per_group`` reaches ``power`` (two-group design).
+
+    Returns None when even reliability 1 falls short. Solved on the observed effect with the
+    exact noncentral t power, then converted back through the convention (rho = (d_obs/d)^2
+    for the variance ratio, d_obs/d for the observed-true correlation).
+    """
+    from scipy import optimize
+
+    target = _checks.probability_open("power", power)
+    name = convention_name(convention)
+    d = abs(_checks.real("effect_size", effect_size))
+    if d == 0.0:
+        raise ValueError("effect_size must be non-zero")
+    full = power_two_group(n_per_group, d, alpha=alpha, sides=sides, reliability=1.0).power
+    if full < target:
+        return None
+
+    def shortfall(rho: float) -> float:
+        return power_two_group(n_per_group, d, alpha=alpha, sides=sides, reliability=rho, convention=name).power - target
+
+    low = 1e-9
+    if shortfall(low) >= 0:
+        return low
+    return float(optimize.brentq(shortfall, low, 1.0, xtol=1e-12))
+
+
+def reliability_for_power_correlation(
+    n: int, r: float, alpha: float = 0.05, power: float = 0.8, sides: int = 2, reliability_y: float = 1.0
+) -> float | None:
+    """The lowest reliability of the first measure at which ``n`` reaches ``power``; None if none does."""
+    from scipy import optimize
+
+    target = _checks.probability_open("power", power)
+    if power_correlation(n, r, alpha=alpha, sides=sides, reliability_x=1.0, reliability_y=reliability_y).power < target:
+        return None
+
+    def shortfall(rho: float) -> float:
+        return power_correlation(n, r, alpha=alpha, sides=sides, reliability_x=rho, reliability_y=reliability_y).power - target
+
+    low = 1e-9
+    if shortfall(low) >= 0:
+        return low
+    return float(optimize.brentq(shortfall, low, 1.0, xtol=1e-12))

@@ -9,6 +9,7 @@ import pytest
 from statsmodels.stats.power import TTestIndPower
 
 from protolint.stats import (
+    convention_name,
     SolverError,
     attenuated_effect_size,
     power_correlation,
@@ -54,6 +55,8 @@ DESIGN_SECTION_5 = [
     ("true-score", 0.8, 200, 0.4),
     ("true-score", 0.6, 352, 0.3),
     ("true-score", 0.4, 788, 0.2),
+    ("variance-ratio", 0.8, 160, 0.447214),
+    ("observed-true-correlation", 0.8, 200, 0.4),
 ]
 
 
@@ -64,12 +67,14 @@ def test_attenuated_sample_size_both_conventions(convention: str, rho: float, n_
     assert r.effect_size_observed == pytest.approx(d_obs, abs=1e-6)
     assert r.n_total_perfect_reliability == 128
     assert r.inflation == pytest.approx(n_total / 128)
-    assert r.convention == convention
+    assert r.convention == convention_name(convention)
+    # The old names are aliases of the names that say what each convention assumes.
+    assert convention_name(convention) == {"ctt": "variance-ratio", "true-score": "observed-true-correlation"}.get(convention, convention)
 
 
 def test_default_convention_is_classical_test_theory() -> None:
     r = sample_size_two_group(0.5, reliability=0.8)
-    assert (r.convention, r.n_per_group, r.inflation) == ("ctt", (80, 80), 1.25)
+    assert (r.convention, r.n_per_group, r.inflation) == ("variance-ratio", (80, 80), 1.25)
 
 
 @pytest.mark.parametrize("ratio,sides", [(2.0, 2), (0.5, 2), (1.5, 1), (1.0, 1), (3.0, 1)])
@@ -154,7 +159,7 @@ def test_solver_failure_raises_instead_of_nan() -> None:
         ({"effect_size": 0.5, "sides": 3}, "sides must be 1 or 2, got 3"),
         ({"effect_size": 0.5, "dropout": 1.0}, r"dropout must be in \[0, 1\)"),
         ({"effect_size": 0.5, "ratio": -1.0}, "ratio must be greater than 0"),
-        ({"effect_size": 0.5, "convention": "classical"}, "convention must be one of 'ctt', 'true-score'"),
+        ({"effect_size": 0.5, "convention": "classical"}, "convention must be one of 'variance-ratio', 'observed-true-correlation'"),
         ({"effect_size": 0.5, "power": 0.01}, "power must exceed alpha/sides"),
     ],
 )
@@ -170,3 +175,17 @@ def test_power_argument_errors() -> None:
         power_two_group(10.5, 0.5)  # type: ignore[arg-type]
     with pytest.raises(ValueError, match="r must be in"):
         sample_size_correlation(1.0)
+
+
+@pytest.mark.parametrize("convention", ["variance-ratio", "observed-true-correlation"])
+def test_reliability_for_power_inverts_the_sample_size(convention: str) -> None:
+    from protolint.stats import power_two_group, reliability_for_power
+
+    # 80 per group reach 80 % power at d = 0.5 and reliability 0.8 under the variance ratio
+    # (d_obs = 0.447; Cohen 1988 Table 2.4.1 gives 64 per group at d = 0.5 and perfect reliability).
+    rho = reliability_for_power(80, 0.5, convention=convention)
+    assert rho is not None
+    assert power_two_group(80, 0.5, reliability=rho, convention=convention).power == pytest.approx(0.8, abs=1e-9)
+    if convention == "variance-ratio":
+        assert 0.78 < rho <= 0.8
+    assert reliability_for_power(20, 0.5, convention=convention) is None  # 20 per group fall short even at rho = 1
