@@ -53,7 +53,8 @@ def test_design_section_3_example() -> None:
 def test_conventions_by_name(convention: str, rho: str, n_total: int) -> None:
     # DESIGN section 5: 316 at rho .4 (ctt); 200 at .8 and 788 ("almost 800") at .4 (true-score).
     report = run_json("--effect-size", "0.5", "--reliability", rho, "--convention", convention)
-    assert report["n_total"] == n_total and report["convention"] == convention
+    assert report["n_total"] == n_total
+    assert report["convention"] == {"ctt": "variance-ratio", "true-score": "observed-true-correlation"}[convention]
 
 
 def test_difference_and_sd_with_raters_and_dropout() -> None:
@@ -149,3 +150,50 @@ def test_subprocess_and_output_file(tmp_path: Path) -> None:
     assert bad.stderr.strip() == "protolint: size: Invalid value for '--effect-size': 'abc' is not a valid float."
     helped = subprocess.run([sys.executable, "-m", "protolint", "size", "--help"], capture_output=True, text=True, env=env)
     assert helped.returncode == 0 and "protolint size --effect-size 0.5 --reliability 0.8" in helped.stdout
+
+
+@pytest.mark.parametrize("new,old", [("variance-ratio", "ctt"), ("observed-true-correlation", "true-score")])
+def test_convention_names_say_what_they_assume_and_old_names_stay(new: str, old: str) -> None:
+    assert run_json("--effect-size", "0.5", "--reliability", "0.8", "--convention", new) == \
+        run_json("--effect-size", "0.5", "--reliability", "0.8", "--convention", old)
+    # The default is what a plan's sample-size rules use: 160 at d = 0.5, rho = 0.8 (d * sqrt(rho)).
+    assert run_json("--effect-size", "0.5", "--reliability", "0.8")["convention"] == "variance-ratio"
+
+
+def test_the_printed_reliability_reproduces_the_n() -> None:
+    code, out, _ = run("--effect-size", "0.5", "--single-reliability", "0.55", "--raters", "3")
+    assert code == 0
+    printed = next(line for line in out.splitlines() if "Reliability of the outcome" in line).split()[-1]
+    # Spearman-Brown of 0.55 with 3 ratings = 1.65 / 2.1 = 0.785714...; rerunning with the printed value gives the same N.
+    assert printed == "0.785714"
+    assert run_json("--effect-size", "0.5", "--reliability", printed)["n_total"] == \
+        run_json("--effect-size", "0.5", "--single-reliability", "0.55", "--raters", "3")["n_total"]
+
+
+def test_power_at_a_given_n_and_the_reliability_it_needs() -> None:
+    report = run_json("--effect-size", "0.5", "--reliability", "0.8", "--n-total", "128")
+    given = report["at_given_n"]
+    # statsmodels' power of the t test at 64 per group and d_obs = 0.5 * sqrt(0.8).
+    expected = TTestIndPower().power(effect_size=0.5 * 0.8**0.5, nobs1=64, alpha=0.05, ratio=1.0)
+    assert given["n_per_group"] == [64, 64] and given["power"] == pytest.approx(expected, abs=1e-6)
+    # 128 reach 80 % only at perfect reliability (Cohen 1988 Table 2.4.1: 64 per group at d = 0.5).
+    assert given["reliability_needed"] == pytest.approx(1.0, abs=0.02)
+    roomy = run_json("--effect-size", "0.5", "--reliability", "0.8", "--n-total", "300")["at_given_n"]
+    rho = roomy["reliability_needed"]
+    assert TTestIndPower().power(effect_size=0.5 * rho**0.5, nobs1=150, alpha=0.05) == pytest.approx(0.8, abs=1e-6)
+    short = run_json("--effect-size", "0.5", "--n-total", "60")["at_given_n"]
+    assert short["reliability_needed"] is None
+
+
+def test_reliability_study_sizes() -> None:
+    report = run_json("--effect-size", "0.5", "--single-reliability", "0.75", "--study-raters", "3",
+                      "--study-null", "0.5", "--study-width", "0.2")
+    study = report["reliability_study"]
+    # Walter, Eliasziw & Donner (1998): rho0 .5, rho1 .75, k = 3, one-sided .05, power .80 -> 23.09 -> 24.
+    assert study["walter_1998"]["n_subjects"] == 24
+    assert study["walter_1998"]["n_exact"] == pytest.approx(23.09, abs=0.01)
+    assert study["bonett_2002"]["n_subjects"] >= 2 and study["bonett_2002"]["expected_width"] <= 0.2 + 1e-9
+    code, out, _ = run("--effect-size", "0.5", "--single-reliability", "0.75", "--study-raters", "3", "--study-null", "0.5")
+    assert "Walter, Eliasziw & Donner 1998" in out
+    code, _, err = run("--effect-size", "0.5", "--study-null", "0.5")
+    assert code == 2 and "--study-raters" in err

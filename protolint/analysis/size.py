@@ -1,0 +1,309 @@
+"""Reliability-adjusted sample size and power, as one report.
+
+The two-group design attenuates the true-score effect by the outcome's reliability under a
+named convention (see :mod:`protolint.stats.power`: ``variance-ratio``, the classical-test-
+theory d * sqrt(rho) that a plan's sample-size rules use, or ``observed-true-correlation``,
+d * rho); the correlation design by r * sqrt(rho_x * rho_y). Beyond the N for the target power
+the report can answer the power at a given N, the reliability a given N needs, and the subjects
+a reliability study of the outcome needs (Bonett 2002; Walter, Eliasziw & Donner 1998).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from types import MappingProxyType
+from typing import Any
+
+import click
+
+from protolint import CAUTION
+from protolint.errors import ProtolintError
+
+# --curve: reliabilities 0.40, 0.45, ..., 1.00.
+CURVE = tuple(round(0.40 + 0.05 * i, 2) for i in range(13))
+
+_CONVENTION_TEXT = {
+    "variance-ratio": "variance-ratio: observed d = d * sqrt(reliability) (classical test theory)",
+    "observed-true-correlation": "observed-true-correlation: observed d = d * reliability",
+}
+
+
+@dataclass(frozen=True)
+class Request:
+    """The validated command-line request."""
+
+    design: str
+    effect_size: float
+    difference: float | None
+    sd: float | None
+    alpha: float
+    power: float
+    sides: int
+    ratio: float
+    dropout: float
+    reliability: float
+    single_reliability: float | None
+    raters: int
+    occasions: int
+    convention: str
+    reliability_other: float
+    n_total_given: int | None = None
+    study_raters: int | None = None
+    study_width: float | None = None
+    study_null: float | None = None
+
+
+def _two_group(req: Request, reliability: float) -> dict[str, Any]:
+    from protolint import stats
+
+    r = stats.sample_size_two_group(
+        req.effect_size, alpha=req.alpha, power=req.power, sides=req.sides, ratio=req.ratio,
+        dropout=req.dropout, reliability=reliability, convention=req.convention,
+    )
+    return {
+        "reliability": r.reliability,
+        "effect_size_observed": r.effect_size_observed,
+        "n_per_group": list(r.n_per_group),
+        "n_total": r.n_total,
+        "n_total_perfect_reliability": r.n_total_perfect_reliability,
+        "inflation": r.inflation,
+        "achieved_power": r.achieved_power,
+        "n_per_group_enrolled": list(r.n_per_group_enrolled),
+        "n_total_enrolled": r.n_total_enrolled,
+        "method": r.method,
+    }
+
+
+def _correlation(req: Request, reliability: float) -> dict[str, Any]:
+    from protolint import stats
+
+    r = stats.sample_size_correlation(
+        req.effect_size, alpha=req.alpha, power=req.power, sides=req.sides,
+        reliability_x=reliability, reliability_y=req.reliability_other, dropout=req.dropout,
+    )
+    return {
+        "reliability": r.reliability_x,
+        "effect_size_observed": r.r_observed,
+        "n_per_group": None,
+        "n_total": r.n,
+        "n_total_perfect_reliability": r.n_perfect_reliability,
+        "inflation": r.inflation,
+        "achieved_power": r.achieved_power,
+        "n_total_enrolled": r.n_enrolled,
+        "method": r.method,
+    }
+
+
+def _at_given_n(req: Request) -> dict[str, Any]:
+    """Power at the given analysable N, and the reliability that N needs for the target power."""
+    from protolint import stats
+
+    n = req.n_total_given
+    assert n is not None
+    if req.design == "two-group":
+        n1 = max(2, round(n / (1.0 + req.ratio)))
+        groups = (n1, max(2, n - n1))
+        power = stats.power_two_group(groups, req.effect_size, alpha=req.alpha, sides=req.sides,
+                                      reliability=req.reliability, convention=req.convention).power
+        needed = stats.reliability_for_power(groups, req.effect_size, alpha=req.alpha, power=req.power,
+                                             sides=req.sides, convention=req.convention)
+        return {"n_total": sum(groups), "n_per_group": list(groups), "power": power, "reliability_needed": needed}
+    power = stats.power_correlation(n, req.effect_size, alpha=req.alpha, sides=req.sides, reliability_x=req.reliability,
+                                    reliability_y=req.reliability_other).power
+    needed = stats.reliability_for_power_correlation(n, req.effect_size, alpha=req.alpha, power=req.power, sides=req.sides,
+                                                     reliability_y=req.reliability_other)
+    return {"n_total": n, "n_per_group": None, "power": power, "reliability_needed": needed}
+
+
+def _reliability_study(req: Request) -> dict[str, Any]:
+    """Subjects for a reliability study of the outcome: Bonett (2002) and Walter et al. (1998)."""
+    from protolint import stats
+
+    k = req.study_raters
+    assert k is not None
+    rho = req.single_reliability if req.single_reliability is not None else req.reliability
+    out: dict[str, Any] = {"raters": k, "planning_icc": rho}
+    if req.study_width is not None:
+        bonett = stats.subjects_for_icc_width_bonett(rho, k, req.study_width, confidence=0.95)
+        out["bonett_2002"] = {"width": req.study_width, "confidence": 0.95, "n_subjects": bonett.n,
+                              "n_exact": bonett.n_exact, "expected_width": bonett.achieved_width,
+                              "adjusted_for_two_raters": bonett.adjusted_for_two_raters, "method": bonett.method}
+    if req.study_null is not None:
+        walter = stats.subjects_for_icc_test_walter(req.study_null, rho, k, alpha=req.alpha, power=req.power, sides=1)
+        out["walter_1998"] = {"rho0": req.study_null, "rho1": rho, "alpha": req.alpha, "sides": 1, "power": req.power,
+                              "n_subjects": walter.n, "n_exact": walter.n_exact, "achieved_power": walter.achieved_power,
+                              "method": walter.method}
+    return out
+
+
+def compute(req: Request, curve: bool) -> dict[str, Any]:
+    """The JSON report of the size contract (plus the extra keys documented in --help)."""
+    from protolint.stats import SolverError
+
+    solve = _two_group if req.design == "two-group" else _correlation
+    try:
+        main = solve(req, req.reliability)
+        points = [solve(req, rho) for rho in CURVE] if curve else None
+    except (ValueError, SolverError) as error:
+        raise ProtolintError(str(error)) from None
+    report: dict[str, Any] = {
+        "design": req.design,
+        "effect_size": req.effect_size,
+        "alpha": req.alpha,
+        "power": req.power,
+        "sides": req.sides,
+        "reliability": main["reliability"],
+        "effect_size_observed": main["effect_size_observed"],
+        "n_per_group": main["n_per_group"],
+        "n_total": main["n_total"],
+        "n_total_perfect_reliability": main["n_total_perfect_reliability"],
+        "inflation": main["inflation"],
+        "achieved_power": main["achieved_power"],
+        "dropout": req.dropout,
+        "n_total_enrolled": main["n_total_enrolled"],
+    }
+    if req.design == "two-group":
+        report["ratio"] = req.ratio
+        report["n_per_group_enrolled"] = main["n_per_group_enrolled"]
+        report["convention"] = req.convention
+    else:
+        report["reliability_other"] = req.reliability_other
+        report["convention"] = "r * sqrt(reliability * reliability_other)"
+    if req.difference is not None:
+        report["difference"] = req.difference
+        report["sd"] = req.sd
+    if req.single_reliability is not None:
+        report["reliability_from"] = {
+            "single_reliability": req.single_reliability,
+            "raters": req.raters,
+            "occasions": req.occasions,
+            "rule": "Spearman-Brown over raters x occasions ratings",
+        }
+    if req.n_total_given is not None:
+        report["at_given_n"] = _at_given_n(req)
+    if req.study_raters is not None:
+        report["reliability_study"] = _reliability_study(req)
+    report["method"] = main["method"]
+    if points is not None:
+        keys = ("reliability", "effect_size_observed", "n_per_group", "n_total", "achieved_power", "inflation")
+        report["curve"] = [{key: point[key] for key in keys} for point in points]
+    report["caution"] = CAUTION
+    return report
+
+
+def _pair(values: list[int] | None, total: int) -> str:
+    if values is None:
+        return f"{total}"
+    return f"{values[0]} + {values[1]} = {total}"
+
+
+def render_text(report: dict[str, Any]) -> str:
+    two_group = report["design"] == "two-group"
+    sides = "two-sided" if report["sides"] == 2 else "one-sided"
+    what = "effect size d" if two_group else "correlation r"
+    rows: list[tuple[str, str]] = [(f"True {what}", f"{report['effect_size']:.3f}")]
+    if "difference" in report:
+        rows.append(("  from difference / SD", f"{report['difference']:g} / {report['sd']:g}"))
+    # Enough digits to reproduce N from the printed value (0.786 and 0.78641 can differ by 2).
+    rows.append(("Reliability of the outcome", f"{report['reliability']:.6g}"))
+    if "reliability_from" in report:
+        src = report["reliability_from"]
+        rows.append((
+            "  Spearman-Brown from one rating",
+            f"{src['single_reliability']:g} x {src['raters']} rater(s) x {src['occasions']} occasion(s)",
+        ))
+    if two_group:
+        rows.append(("Attenuation convention", _CONVENTION_TEXT[report["convention"]]))
+    else:
+        rows.append(("Reliability of the other measure", f"{report['reliability_other']:.3f}"))
+        rows.append(("Attenuation", "observed r = r * sqrt(reliability * other reliability)"))
+    rows += [
+        (f"Observed {what}", f"{report['effect_size_observed']:.3f}"),
+        ("Alpha, power", f"{report['alpha']:g} {sides}, target power {report['power']:g}"),
+    ]
+    if two_group:
+        rows.append(("Allocation ratio (group 2 / 1)", f"{report['ratio']:g}"))
+    rows += [
+        ("Analysable " + ("per group" if two_group else "participants"),
+         f"{_pair(report['n_per_group'], report['n_total'])}   (achieved power {report['achieved_power']:.3f})"),
+        ("Same design at reliability 1" if two_group else "Same with both reliabilities 1",
+         f"{report['n_total_perfect_reliability']}"),
+        ("Inflation for unreliability", f"x {report['inflation']:.3f}"),
+    ]
+    if report["dropout"] > 0:
+        rows.append((f"To enrol (dropout {report['dropout']:.0%})",
+                     _pair(report.get("n_per_group_enrolled"), report["n_total_enrolled"])))
+    title = "two-group comparison of means" if two_group else "correlation of two measures"
+    lines = [f"Reliability-adjusted sample size: {title}", ""]
+    lines += [f"  {label:<34} {value}" for label, value in rows]
+    method = "exact noncentral t power" if two_group else "Fisher z"
+    lines += ["", f"Sample sizes are rounded up; method: {method}."]
+    if "curve" in report:
+        lines += [
+            "",
+            "Required N by reliability of the outcome:",
+            f"  {'reliability':>11}  {'observed':>8}  {'N total':>7}  {'power':>6}  {'inflation':>9}",
+        ]
+        for point in report["curve"]:
+            lines.append(
+                f"  {point['reliability']:>11.2f}  {point['effect_size_observed']:>8.3f}  {point['n_total']:>7}  "
+                f"{point['achieved_power']:>6.3f}  {point['inflation']:>9.3f}"
+            )
+    lines += _extra_text(report)
+    lines += ["", click.wrap_text(CAUTION, width=100)]
+    return "\n".join(lines) + "\n"
+
+
+def _extra_text(report: dict[str, Any]) -> list[str]:
+    lines: list[str] = []
+    given = report.get("at_given_n")
+    if given is not None:
+        groups = given["n_per_group"]
+        n_text = f"{groups[0]} + {groups[1]} = {given['n_total']}" if groups else f"{given['n_total']}"
+        needed = given["reliability_needed"]
+        needed_text = (
+            f"a reliability of at least {needed:.4f} reaches power {report['power']:g} at this N"
+            if needed is not None else f"no reliability reaches power {report['power']:g} at this N, not even 1"
+        )
+        lines += ["", f"At the given N ({n_text} analysable): power {given['power']:.3f} at reliability "
+                      f"{report['reliability']:.6g}; {needed_text}."]
+    study = report.get("reliability_study")
+    if study is not None:
+        lines += ["", f"Reliability study of the outcome ({study['raters']} raters per subject, planning ICC {study['planning_icc']:.6g}):"]
+        if "bonett_2002" in study:
+            b = study["bonett_2002"]
+            lines.append(f"  {b['n_subjects']} subjects give a 95% interval of expected full width {b['expected_width']:.3f} "
+                         f"(asked: {b['width']:g}; Bonett 2002).")
+        if "walter_1998" in study:
+            w = study["walter_1998"]
+            lines.append(f"  {w['n_subjects']} subjects test ICC = {w['rho0']:g} against {w['rho1']:.6g} one-sided at alpha "
+                         f"{w['alpha']:g} with power {w['achieved_power']:.3f} (Walter, Eliasziw & Donner 1998).")
+        if len(lines) and not ("bonett_2002" in study or "walter_1998" in study):
+            lines.append("  give --study-width (Bonett 2002) and/or --study-null (Walter et al. 1998).")
+    return lines
+
+
+@dataclass(frozen=True)
+class SizeReport:
+    """The validated request and its answer; ``to_json()`` is the JSON contract of ``size``."""
+
+    request: Request
+    answer: Mapping[str, Any]
+
+    @property
+    def n_total(self) -> int:
+        return int(self.answer["n_total"])
+
+    def to_json(self) -> dict[str, Any]:
+        import copy
+
+        return copy.deepcopy(dict(self.answer))
+
+    def to_text(self) -> str:
+        return render_text(self.to_json())
+
+
+def plan_size(request: Request, curve: bool = False) -> SizeReport:
+    """Sample size (and, as asked, power at a given N and a reliability study) for ``request``."""
+    return SizeReport(request, MappingProxyType(compute(request, curve)))
