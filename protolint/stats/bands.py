@@ -27,6 +27,9 @@ class BandScale:
         One more label than cuts.
     upper_closed : bool
         True when a value equal to a cut belongs to the band below it.
+    open_above : tuple of float
+        Cuts where, against ``upper_closed``, a value equal to the cut belongs to the band
+        above (Landis & Koch put 0 in "slight", but .20 in "slight" too).
     """
 
     name: str
@@ -34,13 +37,19 @@ class BandScale:
     cuts: tuple[float, ...]
     labels: tuple[str, ...]
     upper_closed: bool
+    open_above: tuple[float, ...] = ()
+
+    def _below(self, value: float, cut: float) -> bool:
+        if value == cut:
+            return self.upper_closed and cut not in self.open_above
+        return value < cut
 
     def classify(self, value: float) -> str:
         """The band label of ``value``; raises ValueError for NaN."""
         if isinstance(value, float) and math.isnan(value):
             raise ValueError("value must be a number, got nan")
         for cut, label in zip(self.cuts, self.labels):
-            if value < cut or (self.upper_closed and value == cut):
+            if self._below(value, cut):
                 return label
         return self.labels[-1]
 
@@ -58,10 +67,10 @@ class BandScale:
 
     def describe(self) -> str:
         """The bands in one line, e.g. ``"poor < 0.5 <= moderate < 0.75 <= good ..."``."""
-        below, above = ("<=", "<") if self.upper_closed else ("<", "<=")
         parts = [self.labels[0]]
         for cut, label in zip(self.cuts, self.labels[1:]):
-            parts.append(f"{below} {cut:g} {above} {label}")
+            closed_below = self.upper_closed and cut not in self.open_above
+            parts.append(f"{'<=' if closed_below else '<'} {cut:g} {'<' if closed_below else '<='} {label}")
         return " ".join(parts)
 
 
@@ -85,6 +94,7 @@ LANDIS_KOCH_1977 = BandScale(
     cuts=(0.0, 0.2, 0.4, 0.6, 0.8),
     labels=("poor", "slight", "fair", "moderate", "substantial", "almost perfect"),
     upper_closed=True,
+    open_above=(0.0,),
 )
 
 
@@ -99,6 +109,4 @@ def landis_koch_1977(value: float) -> str:
     < 0 poor; 0-.20 slight; .21-.40 fair; .41-.60 moderate; .61-.80 substantial;
     .81-1 almost perfect (a cut value belongs to the band below it; 0 is slight).
     """
-    if value == 0.0:
-        return "slight"
     return LANDIS_KOCH_1977.classify(value)
