@@ -49,6 +49,9 @@ class Request:
     convention: str
     reliability_other: float
     n_total_given: int | None = None
+    effect_basis: str = "true-score"
+    effect_size_stated: float | None = None
+    source_reliability: float | None = None
     study_raters: int | None = None
     study_width: float | None = None
     study_null: float | None = None
@@ -170,6 +173,10 @@ def compute(req: Request, curve: bool) -> dict[str, Any]:
     else:
         report["reliability_other"] = req.reliability_other
         report["convention"] = "r * sqrt(reliability * reliability_other)"
+    report["effect_basis"] = req.effect_basis
+    if req.effect_basis == "observed":
+        report["effect_size_stated"] = req.effect_size_stated
+        report["source_reliability"] = req.source_reliability
     if req.difference is not None:
         report["difference"] = req.difference
         report["sd"] = req.sd
@@ -205,6 +212,10 @@ def render_text(report: dict[str, Any]) -> str:
     rows: list[tuple[str, str]] = [(f"True {what}", f"{report['effect_size']:.3f}")]
     if "difference" in report:
         rows.append(("  from difference / SD", f"{report['difference']:g} / {report['sd']:g}"))
+    if report.get("effect_basis") == "observed":
+        root = "sqrt(source reliability)" if report["convention"] == "variance-ratio" else "source reliability"
+        rows.append(("  from an observed effect",
+                     f"{report['effect_size_stated']:g} / {root}, source reliability {report['source_reliability']:g}"))
     # Enough digits to reproduce N from the printed value (0.786 and 0.78641 can differ by 2).
     rows.append(("Reliability of the outcome", f"{report['reliability']:.6g}"))
     if "reliability_from" in report:

@@ -27,6 +27,10 @@ from protolint.errors import ProtolintError
                    "(d*rho). Old names: ctt, true-score. [default: variance-ratio]")
 @click.option("--design", type=click.Choice(("two-group", "correlation")), default="two-group", show_default=True, help="Planned analysis.")
 @click.option("--reliability-other", type=float, default=1.0, show_default=True, help="Reliability of the second measure (correlation design).")
+@click.option("--effect-basis", type=click.Choice(("true-score", "observed")), default="true-score", show_default=True,
+              help="As a plan's effect_basis: true-score when the effect is on the error-free scale; observed when it "
+                   "was seen in an earlier study measured with --source-reliability.")
+@click.option("--source-reliability", type=float, help="With --effect-basis observed: reliability in the study the effect came from.")
 @click.option("--n-total", type=int, help="Also give the power at this analysable N and the reliability it needs for --power.")
 @click.option("--study-raters", type=int, help="Size a reliability study of the outcome with this many raters per subject.")
 @click.option("--study-width", type=float, help="With --study-raters: full width of the 95%% ICC interval wanted (Bonett 2002).")
@@ -37,7 +41,8 @@ from protolint.errors import ProtolintError
 def command(
     effect_size: float | None, difference: float | None, sd: float | None, alpha: float, power: float, sides: str,
     ratio: float, dropout: float, reliability: float | None, single_reliability: float | None, raters: int | None,
-    occasions: int | None, convention: str | None, design: str, reliability_other: float, n_total: int | None,
+    occasions: int | None, convention: str | None, design: str, reliability_other: float, effect_basis: str,
+    source_reliability: float | None, n_total: int | None,
     study_raters: int | None, study_width: float | None, study_null: float | None, curve: bool, fmt: str,
     output: str | None,
 ) -> None:
@@ -95,6 +100,19 @@ def command(
         )
     except (ValueError, TypeError) as error:
         raise ProtolintError(f"{error} (--single-reliability/--raters/--occasions)") from None
+    stated = None
+    if effect_basis == "observed":
+        if source_reliability is None:
+            raise ProtolintError("--effect-basis observed needs --source-reliability (the reliability the effect was seen with)")
+        if design == "correlation":
+            raise ProtolintError("--effect-basis observed applies to --design two-group; give the true-score r for a correlation")
+        stated = effect_size
+        try:
+            effect_size = stats.true_effect_size(effect_size, source_reliability, convention or "variance-ratio")
+        except ValueError as error:
+            raise ProtolintError(f"--source-reliability: {error}") from None
+    elif source_reliability is not None:
+        raise ProtolintError("--source-reliability goes with --effect-basis observed")
     if n_total is not None and n_total < 4:
         raise ProtolintError(f"--n-total must be at least 4, got {n_total}")
     if study_raters is None and (study_width is not None or study_null is not None):
@@ -106,7 +124,7 @@ def command(
         sides=int(sides), ratio=ratio, dropout=dropout, reliability=rho, single_reliability=single_reliability,
         raters=n_raters, occasions=n_occasions, convention=stats.convention_name(convention or "variance-ratio"),
         reliability_other=reliability_other, n_total_given=n_total, study_raters=study_raters, study_width=study_width,
-        study_null=study_null,
+        study_null=study_null, effect_basis=effect_basis, effect_size_stated=stated, source_reliability=source_reliability,
     )
     report = plan_size(req, curve)
     text = to_json(report.to_json()) if fmt == "json" else report.to_text()

@@ -33,6 +33,7 @@ _EXPORTS: dict[str, str] = {
     "CONVENTION_ALIASES": "protolint.stats.power",
     "convention_name": "protolint.stats.power",
     "reliability_for_power": "protolint.stats.power",
+    "true_effect_size": "protolint.stats.power",
     "reliability_for_power_correlation": "protolint.stats.power",
     "CategoryKappa": "protolint.stats.kappa",
     "CohenKappaResult": "protolint.stats.kappa",
@@ -108,6 +109,6 @@ if TYPE_CHECKING:  # let type checkers and editors see the eager names
     from protolint.stats.kappa import CategoryKappa, CohenKappaResult, FleissKappaResult, cohen_kappa, fleiss_kappa  # noqa: F401
     from protolint.stats.krippendorff import KrippendorffAlphaResult, krippendorff_alpha  # noqa: F401
     from protolint.stats.measurement_error import mdc95, sem  # noqa: F401
-    from protolint.stats.power import CONVENTION_ALIASES, CONVENTIONS, convention_name, reliability_for_power, reliability_for_power_correlation, CorrelationPowerResult, CorrelationSampleSizeResult, PowerResult, SampleSizeResult, attenuated_effect_size, power_correlation, power_two_group, reliability_of_mean, sample_size_correlation, sample_size_two_group  # noqa: F401
+    from protolint.stats.power import CONVENTION_ALIASES, CONVENTIONS, convention_name, reliability_for_power, reliability_for_power_correlation, true_effect_size, CorrelationPowerResult, CorrelationSampleSizeResult, PowerResult, SampleSizeResult, attenuated_effect_size, power_correlation, power_two_group, reliability_of_mean, sample_size_correlation, sample_size_two_group  # noqa: F401
     from protolint.stats.spearman_brown import RatersNeededResult, SpearmanBrownResult, raters_needed, single_from_average, spearman_brown  # noqa: F401
     from protolint.stats.study_size import IccTestSampleSize, IccWidthResult, IccWidthSampleSize, icc_ci_width_bonett, subjects_for_icc_test_walter, subjects_for_icc_width_bonett  # noqa: F401

@@ -97,6 +97,18 @@ def attenuated_effect_size(effect_size: float, reliability: float, convention: s
     return d * math.sqrt(rho) if convention_name(convention) == "variance-ratio" else d * rho
 
 
+def true_effect_size(observed: float, source_reliability: float, convention: str = "variance-ratio") -> float:
+    """The true-score effect behind an effect observed with reliability ``source_reliability``.
+
+    The inverse of :func:`attenuated_effect_size`: ``d_obs / sqrt(rho_src)`` under the variance
+    ratio, ``d_obs / rho_src`` under the observed-true correlation. This is what a plan's
+    ``effect_basis: observed`` with ``source_reliability`` means (under the variance ratio).
+    """
+    d = _checks.real("observed", observed)
+    rho = _checks.in_range("source_reliability", source_reliability, 0.0, 1.0, low_open=True)
+    return d / math.sqrt(rho) if convention_name(convention) == "variance-ratio" else d / rho
+
+
 @dataclass(frozen=True, slots=True)
 class PowerResult:
     """Power of a two-group comparison of means.

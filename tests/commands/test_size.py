@@ -197,3 +197,15 @@ def test_reliability_study_sizes() -> None:
     assert "Walter, Eliasziw & Donner 1998" in out
     code, _, err = run("--effect-size", "0.5", "--study-null", "0.5")
     assert code == 2 and "--study-raters" in err
+
+
+def test_effect_basis_means_what_it_means_in_a_plan() -> None:
+    # A plan's effect_basis: observed with source_reliability 0.64: the true effect is
+    # 0.4 / sqrt(0.64) = 0.5 (classical test theory, Lord & Novick 1968), so N is that of d = 0.5.
+    observed = run_json("--effect-size", "0.4", "--effect-basis", "observed", "--source-reliability", "0.64", "--reliability", "0.8")
+    direct = run_json("--effect-size", "0.5", "--reliability", "0.8")
+    assert observed["effect_size"] == pytest.approx(0.5) and observed["n_total"] == direct["n_total"] == 160
+    assert (observed["effect_basis"], observed["effect_size_stated"], observed["source_reliability"]) == ("observed", 0.4, 0.64)
+    assert direct["effect_basis"] == "true-score"
+    code, _, err = run("--effect-size", "0.4", "--effect-basis", "observed")
+    assert code == 2 and "--source-reliability" in err
