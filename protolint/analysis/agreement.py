@@ -335,10 +335,9 @@ def _label(value: float, labels: tuple[str, ...] | None) -> str:
 
 
 def _interval(low: float, high: float, method: str, n: int) -> tuple[Interval | None, str | None]:
-    if not (math.isfinite(low) and math.isfinite(high)):
-        return None, "no interval can be computed on these data"
-    if high - low <= 1e-12:
-        return None, f"no interval: the standard error is 0 with {n} subject{'s' if n != 1 else ''}, which says nothing about precision"
+    if not (math.isfinite(low) and math.isfinite(high)) or high - low <= 1e-12:
+        return None, (f"no interval: with {_plural(n, 'subject')} the standard error is 0 or undefined, which says "
+                      "nothing about precision")
     return Interval(low, high, method), None
 
 

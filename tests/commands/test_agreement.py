@@ -211,9 +211,12 @@ def test_fleiss_with_missing_ratings_uses_the_varying_raters_form() -> None:
     expected = CAC(pd.read_csv(KRIPPENDORFF, index_col=0)).fleiss()["est"]["coefficient_value"]
     assert fleiss["value"] == pytest.approx(expected, abs=1e-5)
     assert expected == pytest.approx(0.76117, abs=1e-5)
-    # The 11 subjects with at least two ratings, and their 40 ratings, like Krippendorff's alpha.
+    # Gwet's generalisation uses every rated subject (12, with 41 ratings) for the category
+    # proportions, as his AC1 does; Krippendorff's alpha pairs only the 11 units with two or more.
+    ac1 = report["coefficients"]["gwet_ac1"]
+    assert (fleiss["subjects_used"], fleiss["ratings_used"]) == (ac1["subjects_used"], ac1["ratings_used"]) == (12, 41)
     alpha = report["coefficients"]["krippendorff_alpha"]
-    assert (fleiss["subjects_used"], fleiss["ratings_used"]) == (alpha["subjects_used"], alpha["ratings_used"]) == (11, 40)
+    assert (alpha["subjects_used"], alpha["ratings_used"]) == (11, 40)
     assert not any("Fleiss" in note and "dropped" in note for note in report["notes"])
 
 
