@@ -511,12 +511,14 @@ def analyse(
 
             attempt("gwet_ac2", ac2)
 
-    for n, names in few.items():
-        subjects = f"{n} subject{'s' if n != 1 else ''}"
+    if few:
+        counts = sorted(few)
+        names = [name for n in counts for name in few[n]]
+        span = _plural(counts[0], "subject") if len(counts) == 1 else f"{counts[0]} to {counts[-1]} subjects"
         what = "All coefficients rest" if len(names) == len(coefficients) else f"{_join(names)} {'rest' if len(names) > 1 else 'rests'}"
         warnings.append(
-            f"{what} on {subjects}; Koo & Li (2016) advise at least {FEW_SUBJECTS} subjects for a reliability "
-            "study, so read the intervals and bands with care."
+            f"{what} on {span}; fewer than {FEW_SUBJECTS} subjects give wide intervals and unstable bands (common "
+            f"practice; Koo & Li 2016 advise at least {FEW_SUBJECTS} for a reliability study), so read them with care."
         )
     unique_warnings = tuple(dict.fromkeys(warnings))
     return AgreementReport(
