@@ -22,6 +22,7 @@ from protolint.errors import ProtolintError
 @click.option("--raters", type=int, help="Raters averaged per assessment (with --single-reliability).")
 @click.option("--occasions", type=int, help="Occasions averaged (with --single-reliability).")
 @click.option("--convention", type=click.Choice(("variance-ratio", "observed-true-correlation", "ctt", "true-score")),
+              metavar="[variance-ratio|observed-true-correlation]",
               help="Attenuation convention of the two-group design, named by what it takes reliability to be: "
                    "variance-ratio (classical test theory, d*sqrt(rho); what check uses) or observed-true-correlation "
                    "(d*rho). Old names: ctt, true-score. [default: variance-ratio]")
@@ -33,7 +34,7 @@ from protolint.errors import ProtolintError
 @click.option("--source-reliability", type=float, help="With --effect-basis observed: reliability in the study the effect came from.")
 @click.option("--n-total", type=int, help="Also give the power at this analysable N and the reliability it needs for --power.")
 @click.option("--study-raters", type=int, help="Size a reliability study of the outcome with this many raters per subject.")
-@click.option("--study-width", type=float, help="With --study-raters: full width of the 95%% ICC interval wanted (Bonett 2002).")
+@click.option("--study-width", type=float, help="With --study-raters: full width of the 95% ICC interval wanted (Bonett 2002).")
 @click.option("--study-null", type=float, help="With --study-raters: lowest acceptable ICC to test against (Walter et al. 1998).")
 @click.option("--curve", is_flag=True, help="Add the required N for reliabilities 0.40 to 1.00 by 0.05.")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text", show_default=True, help="Output format.")
@@ -55,7 +56,8 @@ def command(
     Fisher z with r * sqrt(reliability * reliability-other). Numbers are rounded up and
     reported with the power they achieve. JSON keys beyond the contract: achieved_power,
     dropout, n_total_enrolled, n_per_group_enrolled, ratio, convention, method, curve,
-    at_given_n, reliability_study.
+    at_given_n, reliability_study, effect_basis (and with observed: effect_size_stated,
+    source_reliability).
 
     \b
     Examples:
@@ -100,6 +102,10 @@ def command(
         )
     except (ValueError, TypeError) as error:
         raise ProtolintError(f"{error} (--single-reliability/--raters/--occasions)") from None
+    if convention == "true-score":
+        # The old name clashes with a plan's effect_basis: true-score (an effect on the error-free scale).
+        click.echo("protolint: note: --convention true-score is the old name of observed-true-correlation "
+                   "(observed d = d * reliability); a plan's effect_basis: true-score means something else", err=True)
     stated = None
     if effect_basis == "observed":
         if source_reliability is None:

@@ -209,3 +209,11 @@ def test_effect_basis_means_what_it_means_in_a_plan() -> None:
     assert direct["effect_basis"] == "true-score"
     code, _, err = run("--effect-size", "0.4", "--effect-basis", "observed")
     assert code == 2 and "--source-reliability" in err
+
+
+def test_the_old_true_score_name_prints_a_note() -> None:
+    code, _, err = run("--effect-size", "0.5", "--reliability", "0.8", "--convention", "true-score")
+    assert code == 0 and err.count("\n") == 1
+    assert "old name of observed-true-correlation" in err and "effect_basis: true-score means something else" in err
+    code, _, err = run("--effect-size", "0.5", "--reliability", "0.8", "--convention", "observed-true-correlation")
+    assert code == 0 and err == ""
