@@ -10,15 +10,16 @@ a reliability study of the outcome needs (Bonett 2002; Walter, Eliasziw & Donner
 
 from __future__ import annotations
 
-from collections.abc import Mapping
 from dataclasses import dataclass
-from types import MappingProxyType
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
 
 from protolint import CAUTION
 from protolint.errors import ProtolintError
+
+if TYPE_CHECKING:
+    from protolint.stats import study_size as stats_study
 
 # --curve: reliabilities 0.40, 0.45, ..., 1.00.
 CURVE = tuple(round(0.40 + 0.05 * i, 2) for i in range(13))
@@ -57,53 +58,86 @@ class Request:
     study_null: float | None = None
 
 
-def _two_group(req: Request, reliability: float) -> dict[str, Any]:
+@dataclass(frozen=True)
+class Answer:
+    """The sample size at one reliability (either design)."""
+
+    reliability: float
+    effect_size_observed: float
+    n_per_group: tuple[int, int] | None
+    n_total: int
+    n_total_perfect_reliability: int
+    inflation: float
+    achieved_power: float
+    n_per_group_enrolled: tuple[int, int] | None
+    n_total_enrolled: int
+    method: str
+
+
+@dataclass(frozen=True)
+class AtGivenN:
+    """Power at a given analysable N, and the lowest reliability that reaches the target there."""
+
+    n_total: int
+    n_per_group: tuple[int, int] | None
+    power: float
+    reliability_needed: float | None
+    """None when even reliability 1 falls short of the target power."""
+
+    def to_json(self) -> dict[str, Any]:
+        return {"n_total": self.n_total, "n_per_group": None if self.n_per_group is None else list(self.n_per_group),
+                "power": self.power, "reliability_needed": self.reliability_needed}
+
+
+@dataclass(frozen=True)
+class ReliabilityStudy:
+    """Subjects for a reliability study of the outcome (the statistics core's results)."""
+
+    raters: int
+    planning_icc: float
+    bonett: stats_study.IccWidthSampleSize | None
+    walter: stats_study.IccTestSampleSize | None
+
+    def to_json(self) -> dict[str, Any]:
+        out: dict[str, Any] = {"raters": self.raters, "planning_icc": self.planning_icc}
+        if self.bonett is not None:
+            b = self.bonett
+            out["bonett_2002"] = {"width": b.width, "confidence": b.confidence, "n_subjects": b.n, "n_exact": b.n_exact,
+                                  "expected_width": b.achieved_width, "adjusted_for_two_raters": b.adjusted_for_two_raters,
+                                  "method": b.method}
+        if self.walter is not None:
+            w = self.walter
+            out["walter_1998"] = {"rho0": w.rho0, "rho1": w.rho1, "alpha": w.alpha, "sides": w.sides, "power": w.power,
+                                  "n_subjects": w.n, "n_exact": w.n_exact, "achieved_power": w.achieved_power,
+                                  "method": w.method}
+        return out
+
+
+def _two_group(req: Request, reliability: float) -> Answer:
     from protolint import stats
 
     r = stats.sample_size_two_group(
         req.effect_size, alpha=req.alpha, power=req.power, sides=req.sides, ratio=req.ratio,
         dropout=req.dropout, reliability=reliability, convention=req.convention,
     )
-    return {
-        "reliability": r.reliability,
-        "effect_size_observed": r.effect_size_observed,
-        "n_per_group": list(r.n_per_group),
-        "n_total": r.n_total,
-        "n_total_perfect_reliability": r.n_total_perfect_reliability,
-        "inflation": r.inflation,
-        "achieved_power": r.achieved_power,
-        "n_per_group_enrolled": list(r.n_per_group_enrolled),
-        "n_total_enrolled": r.n_total_enrolled,
-        "method": r.method,
-    }
+    return Answer(r.reliability, r.effect_size_observed, r.n_per_group, r.n_total, r.n_total_perfect_reliability,
+                  r.inflation, r.achieved_power, r.n_per_group_enrolled, r.n_total_enrolled, r.method)
 
 
-def _correlation(req: Request, reliability: float) -> dict[str, Any]:
+def _correlation(req: Request, reliability: float) -> Answer:
     from protolint import stats
 
     r = stats.sample_size_correlation(
         req.effect_size, alpha=req.alpha, power=req.power, sides=req.sides,
         reliability_x=reliability, reliability_y=req.reliability_other, dropout=req.dropout,
     )
-    return {
-        "reliability": r.reliability_x,
-        "effect_size_observed": r.r_observed,
-        "n_per_group": None,
-        "n_total": r.n,
-        "n_total_perfect_reliability": r.n_perfect_reliability,
-        "inflation": r.inflation,
-        "achieved_power": r.achieved_power,
-        "n_total_enrolled": r.n_enrolled,
-        "method": r.method,
-    }
+    return Answer(r.reliability_x, r.r_observed, None, r.n, r.n_perfect_reliability, r.inflation, r.achieved_power,
+                  None, r.n_enrolled, r.method)
 
 
-def _at_given_n(req: Request) -> dict[str, Any]:
-    """Power at the given analysable N, and the reliability that N needs for the target power."""
+def _at_given_n(req: Request, n: int) -> AtGivenN:
     from protolint import stats
 
-    n = req.n_total_given
-    assert n is not None
     if req.design == "two-group":
         n1 = max(2, round(n / (1.0 + req.ratio)))
         groups = (n1, max(2, n - n1))
@@ -111,92 +145,118 @@ def _at_given_n(req: Request) -> dict[str, Any]:
                                       reliability=req.reliability, convention=req.convention).power
         needed = stats.reliability_for_power(groups, req.effect_size, alpha=req.alpha, power=req.power,
                                              sides=req.sides, convention=req.convention)
-        return {"n_total": sum(groups), "n_per_group": list(groups), "power": power, "reliability_needed": needed}
+        return AtGivenN(sum(groups), groups, power, needed)
     power = stats.power_correlation(n, req.effect_size, alpha=req.alpha, sides=req.sides, reliability_x=req.reliability,
                                     reliability_y=req.reliability_other).power
     needed = stats.reliability_for_power_correlation(n, req.effect_size, alpha=req.alpha, power=req.power, sides=req.sides,
                                                      reliability_y=req.reliability_other)
-    return {"n_total": n, "n_per_group": None, "power": power, "reliability_needed": needed}
+    return AtGivenN(n, None, power, needed)
 
 
-def _reliability_study(req: Request) -> dict[str, Any]:
-    """Subjects for a reliability study of the outcome: Bonett (2002) and Walter et al. (1998)."""
+def _reliability_study(req: Request, k: int) -> ReliabilityStudy:
     from protolint import stats
 
-    k = req.study_raters
-    assert k is not None
+    # The planning ICC of a reliability study is that of one rating when it is known.
     rho = req.single_reliability if req.single_reliability is not None else req.reliability
-    out: dict[str, Any] = {"raters": k, "planning_icc": rho}
-    if req.study_width is not None:
-        bonett = stats.subjects_for_icc_width_bonett(rho, k, req.study_width, confidence=0.95)
-        out["bonett_2002"] = {"width": req.study_width, "confidence": 0.95, "n_subjects": bonett.n,
-                              "n_exact": bonett.n_exact, "expected_width": bonett.achieved_width,
-                              "adjusted_for_two_raters": bonett.adjusted_for_two_raters, "method": bonett.method}
-    if req.study_null is not None:
-        walter = stats.subjects_for_icc_test_walter(req.study_null, rho, k, alpha=req.alpha, power=req.power, sides=1)
-        out["walter_1998"] = {"rho0": req.study_null, "rho1": rho, "alpha": req.alpha, "sides": 1, "power": req.power,
-                              "n_subjects": walter.n, "n_exact": walter.n_exact, "achieved_power": walter.achieved_power,
-                              "method": walter.method}
-    return out
+    if not 0.0 <= rho < 1.0:
+        raise ProtolintError(f"a reliability study needs a planning ICC below 1, got {rho:g}")
+    if req.study_width is not None and not 0.0 < req.study_width < 2.0:
+        raise ProtolintError(f"--study-width must be between 0 and 2 (the full width of an ICC interval), got {req.study_width:g}")
+    if req.study_null is not None and not 0.0 <= req.study_null < rho:
+        raise ProtolintError(f"--study-null must be at least 0 and below the planning ICC {rho:.6g}, got {req.study_null:g}")
+    bonett = None if req.study_width is None else stats.subjects_for_icc_width_bonett(rho, k, req.study_width, confidence=0.95)
+    walter = None if req.study_null is None else stats.subjects_for_icc_test_walter(
+        req.study_null, rho, k, alpha=req.alpha, power=req.power, sides=1)
+    return ReliabilityStudy(k, rho, bonett, walter)
 
 
-def compute(req: Request, curve: bool) -> dict[str, Any]:
-    """The JSON report of the size contract (plus the extra keys documented in --help)."""
+@dataclass(frozen=True)
+class SizeReport:
+    """The validated request and its answers; ``to_json()`` is the JSON contract of ``size``."""
+
+    request: Request
+    answer: Answer
+    curve: tuple[Answer, ...] | None = None
+    at_given_n: AtGivenN | None = None
+    reliability_study: ReliabilityStudy | None = None
+
+    @property
+    def n_total(self) -> int:
+        return self.answer.n_total
+
+    def to_json(self) -> dict[str, Any]:
+        req, main = self.request, self.answer
+        report: dict[str, Any] = {
+            "design": req.design,
+            "effect_size": req.effect_size,
+            "alpha": req.alpha,
+            "power": req.power,
+            "sides": req.sides,
+            "reliability": main.reliability,
+            "effect_size_observed": main.effect_size_observed,
+            "n_per_group": None if main.n_per_group is None else list(main.n_per_group),
+            "n_total": main.n_total,
+            "n_total_perfect_reliability": main.n_total_perfect_reliability,
+            "inflation": main.inflation,
+            "achieved_power": main.achieved_power,
+            "dropout": req.dropout,
+            "n_total_enrolled": main.n_total_enrolled,
+        }
+        if req.design == "two-group":
+            report["ratio"] = req.ratio
+            report["n_per_group_enrolled"] = None if main.n_per_group_enrolled is None else list(main.n_per_group_enrolled)
+            report["convention"] = req.convention
+        else:
+            report["reliability_other"] = req.reliability_other
+            report["convention"] = "r * sqrt(reliability * reliability_other)"
+        report["effect_basis"] = req.effect_basis
+        if req.effect_basis == "observed":
+            report["effect_size_stated"] = req.effect_size_stated
+            report["source_reliability"] = req.source_reliability
+        if req.difference is not None:
+            report["difference"] = req.difference
+            report["sd"] = req.sd
+        if req.single_reliability is not None:
+            report["reliability_from"] = {
+                "single_reliability": req.single_reliability,
+                "raters": req.raters,
+                "occasions": req.occasions,
+                "rule": "Spearman-Brown over raters x occasions ratings",
+            }
+        if self.at_given_n is not None:
+            report["at_given_n"] = self.at_given_n.to_json()
+        if self.reliability_study is not None:
+            report["reliability_study"] = self.reliability_study.to_json()
+        report["method"] = main.method
+        if self.curve is not None:
+            report["curve"] = [
+                {"reliability": p.reliability, "effect_size_observed": p.effect_size_observed,
+                 "n_per_group": None if p.n_per_group is None else list(p.n_per_group), "n_total": p.n_total,
+                 "achieved_power": p.achieved_power, "inflation": p.inflation}
+                for p in self.curve
+            ]
+        report["caution"] = CAUTION
+        return report
+
+    def to_text(self) -> str:
+        return render_text(self.to_json())
+
+
+def plan_size(request: Request, curve: bool = False) -> SizeReport:
+    """Sample size (and, as asked, power at a given N and a reliability study) for ``request``."""
     from protolint.stats import SolverError
 
-    solve = _two_group if req.design == "two-group" else _correlation
+    solve = _two_group if request.design == "two-group" else _correlation
     try:
-        main = solve(req, req.reliability)
-        points = [solve(req, rho) for rho in CURVE] if curve else None
+        return SizeReport(
+            request=request,
+            answer=solve(request, request.reliability),
+            curve=tuple(solve(request, rho) for rho in CURVE) if curve else None,
+            at_given_n=None if request.n_total_given is None else _at_given_n(request, request.n_total_given),
+            reliability_study=None if request.study_raters is None else _reliability_study(request, request.study_raters),
+        )
     except (ValueError, SolverError) as error:
         raise ProtolintError(str(error)) from None
-    report: dict[str, Any] = {
-        "design": req.design,
-        "effect_size": req.effect_size,
-        "alpha": req.alpha,
-        "power": req.power,
-        "sides": req.sides,
-        "reliability": main["reliability"],
-        "effect_size_observed": main["effect_size_observed"],
-        "n_per_group": main["n_per_group"],
-        "n_total": main["n_total"],
-        "n_total_perfect_reliability": main["n_total_perfect_reliability"],
-        "inflation": main["inflation"],
-        "achieved_power": main["achieved_power"],
-        "dropout": req.dropout,
-        "n_total_enrolled": main["n_total_enrolled"],
-    }
-    if req.design == "two-group":
-        report["ratio"] = req.ratio
-        report["n_per_group_enrolled"] = main["n_per_group_enrolled"]
-        report["convention"] = req.convention
-    else:
-        report["reliability_other"] = req.reliability_other
-        report["convention"] = "r * sqrt(reliability * reliability_other)"
-    report["effect_basis"] = req.effect_basis
-    if req.effect_basis == "observed":
-        report["effect_size_stated"] = req.effect_size_stated
-        report["source_reliability"] = req.source_reliability
-    if req.difference is not None:
-        report["difference"] = req.difference
-        report["sd"] = req.sd
-    if req.single_reliability is not None:
-        report["reliability_from"] = {
-            "single_reliability": req.single_reliability,
-            "raters": req.raters,
-            "occasions": req.occasions,
-            "rule": "Spearman-Brown over raters x occasions ratings",
-        }
-    if req.n_total_given is not None:
-        report["at_given_n"] = _at_given_n(req)
-    if req.study_raters is not None:
-        report["reliability_study"] = _reliability_study(req)
-    report["method"] = main["method"]
-    if points is not None:
-        keys = ("reliability", "effect_size_observed", "n_per_group", "n_total", "achieved_power", "inflation")
-        report["curve"] = [{key: point[key] for key in keys} for point in points]
-    report["caution"] = CAUTION
-    return report
 
 
 def _pair(values: list[int] | None, total: int) -> str:
@@ -294,27 +354,3 @@ def _extra_text(report: dict[str, Any]) -> list[str]:
             lines.append("  give --study-width (Bonett 2002) and/or --study-null (Walter et al. 1998).")
     return lines
 
-
-@dataclass(frozen=True)
-class SizeReport:
-    """The validated request and its answer; ``to_json()`` is the JSON contract of ``size``."""
-
-    request: Request
-    answer: Mapping[str, Any]
-
-    @property
-    def n_total(self) -> int:
-        return int(self.answer["n_total"])
-
-    def to_json(self) -> dict[str, Any]:
-        import copy
-
-        return copy.deepcopy(dict(self.answer))
-
-    def to_text(self) -> str:
-        return render_text(self.to_json())
-
-
-def plan_size(request: Request, curve: bool = False) -> SizeReport:
-    """Sample size (and, as asked, power at a given N and a reliability study) for ``request``."""
-    return SizeReport(request, MappingProxyType(compute(request, curve)))

@@ -197,6 +197,10 @@ def test_reliability_study_sizes() -> None:
     assert "Walter, Eliasziw & Donner 1998" in out
     code, _, err = run("--effect-size", "0.5", "--study-null", "0.5")
     assert code == 2 and "--study-raters" in err
+    code, _, err = run("--effect-size", "0.5", "--reliability", "0.5", "--study-raters", "3", "--study-null", "0.6")
+    assert code == 2 and err == "protolint: --study-null must be at least 0 and below the planning ICC 0.5, got 0.6\n"
+    code, _, err = run("--effect-size", "0.5", "--reliability", "0.5", "--study-raters", "3", "--study-width", "3")
+    assert code == 2 and "--study-width must be between 0 and 2" in err
 
 
 def test_effect_basis_means_what_it_means_in_a_plan() -> None:
