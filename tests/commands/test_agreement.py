@@ -355,3 +355,19 @@ def test_bootstrap_option_sets_the_replicates_and_zero_gives_no_interval() -> No
     assert code == 2 and "--bootstrap must be 0" in err
     _, help_text, _ = run("--help")
     assert "--bootstrap N" in help_text and "[default: 1000]" in help_text
+
+
+def test_declared_text_categories_on_nominal_labels(tmp_path: Path) -> None:
+    import pandas as pd
+    from irrCAC.raw import CAC
+
+    path = tmp_path / "labels.csv"
+    rows = [("clear", "clear", "mild"), ("mild", "mild", "mild"), ("severe", "severe", "severe"), ("clear", "mild", "clear"),
+            ("mild", "severe", "mild"), ("clear", "clear", "clear")]
+    path.write_text("subject,r1,r2,r3\n" + "".join(f"s{i},{','.join(r)}\n" for i, r in enumerate(rows)))
+    report = run_json(str(path), "--scale", "nominal", "--categories", "clear,mild,moderate,severe")
+    assert report["categories"]["unused"] == ["moderate"]
+    assert set(report["coefficients"]["fleiss_kappa"]["categories"]) == {"clear", "mild", "moderate", "severe"}
+    # irrCAC 0.4.4's AC1 with the same four categories (one never used).
+    expected = CAC(pd.DataFrame(rows), categories=["clear", "mild", "moderate", "severe"]).gwet()["est"]["coefficient_value"]
+    assert report["coefficients"]["gwet_ac1"]["value"] == pytest.approx(expected, abs=1e-5)
