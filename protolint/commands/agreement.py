@@ -43,7 +43,7 @@ def command(ratings: str, scale: str, confidence: float, categories: str | None,
       protolint agreement grades.csv --scale ordinal --plan plan.yaml --instrument PHG5 --format json
       protolint agreement crosstab.csv --table --scale nominal
     """
-    from protolint.analysis import agreement
+    from protolint.analysis import agreement, agreement_input
 
     if categories is not None and plan_file is not None:
         raise ProtolintError("give either --categories or --plan with --instrument, not both")
@@ -52,11 +52,11 @@ def command(ratings: str, scale: str, confidence: float, categories: str | None,
     declared = None
     source = "--categories"
     if categories is not None:
-        declared = agreement.parse_categories(categories)
+        declared = agreement_input.parse_categories(categories)
     elif plan_file is not None and instrument is not None:
-        declared = agreement.categories_from_plan(plan_file, instrument)
+        declared = agreement_input.categories_from_plan(plan_file, instrument)
         source = f"the scale of {instrument} in {plan_file}"
-    table = agreement.read_ratings(ratings, scale, as_table=as_table)
+    table = agreement_input.read_ratings(ratings, scale, as_table=as_table)
     report = agreement.analyse(table, scale, confidence, categories=declared, categories_source=source,
                                bootstrap=bootstrap, read_as_table=as_table)
     text = to_json(report.to_json()) if fmt == "json" else agreement.format_text(report)
