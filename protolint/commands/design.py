@@ -7,7 +7,7 @@ from typing import Any
 import click
 
 from protolint import CAUTION
-from protolint.commands._shared import OneLineCommand
+from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 
 FORMATS = ("text", "json", "html", "pdf")
@@ -111,7 +111,7 @@ def render_text(report: dict[str, Any]) -> str:
 
 
 
-@click.command("design", cls=OneLineCommand)
+@click.command("design", cls=ProtolintCommand)
 @click.argument("pilot", type=click.Path(dir_okay=True))
 @click.option("--plan", "plan_file", type=click.Path(), help="Take the comparison, the coefficient and the plan's own design from this plan.")
 @click.option("--design", "design", callback=lambda ctx, param, value: _design_name(value), metavar="[p x r|p x r x o|r:p]",
