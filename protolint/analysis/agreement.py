@@ -24,7 +24,7 @@ if TYPE_CHECKING:
     import numpy as np
     from numpy.typing import NDArray
 
-    from protolint.ratings_csv import RatingTable
+    from protolint.data import RatingTable
 
 SCALES = ("interval", "ordinal", "nominal")
 DEFAULT_BOOTSTRAP = 1000
@@ -142,6 +142,8 @@ class AgreementReport:
     read_as_table: bool
     notes: tuple[str, ...]
     warnings: tuple[str, ...]
+    input: dict[str, Any] | None = None
+    """Where the table came from (the reader's provenance summary), when known."""
 
     def coefficient(self, key: str) -> Coefficient:
         for entry in self.coefficients:
@@ -173,6 +175,7 @@ class AgreementReport:
             "read_as_contingency_table": self.read_as_table,
             "notes": list(self.notes),
             "warnings": list(self.warnings),
+            "input": self.input,
             "caution": CAUTION,
         }
 
@@ -427,6 +430,7 @@ def analyse(
         read_as_table=read_as_table,
         notes=tuple(notes),
         warnings=unique_warnings,
+        input=table.provenance.to_json() if table.provenance is not None else None,
     )
 
 
@@ -463,6 +467,8 @@ def format_text(report: AgreementReport, width: int = 100) -> str:
     """The report as a table a statistician can read without the JSON beside it."""
     import textwrap
 
+    from protolint.data.provenance import provenance_lines
+
     def wrap(text: str, indent: str = "") -> list[str]:
         return textwrap.wrap(text, width=width, initial_indent=indent, subsequent_indent=indent + "  " if indent else "")
 
@@ -472,6 +478,7 @@ def format_text(report: AgreementReport, width: int = 100) -> str:
         f"Agreement in {report.file}",
         f"{_plural(report.subjects, 'subject')} x {what}, {report.scale} scale, "
         f"{_plural(report.missing, 'missing rating')}; {level} confidence intervals.",
+        *provenance_lines(report.input),
     ]
     if report.categories is not None:
         cats = report.categories

@@ -11,7 +11,7 @@ from typing import TYPE_CHECKING
 from protolint.errors import LocatedError, ProtolintError
 
 if TYPE_CHECKING:
-    from protolint.ratings_csv import RatingTable
+    from protolint.data import RatingTable, ReadOptions
 
 
 def parse_categories(text: str) -> tuple[str, ...]:
@@ -69,18 +69,18 @@ def looks_like_contingency_table(table: RatingTable) -> bool:
     return set(table.subjects) == set(table.columns)
 
 
-def read_ratings(path: str, scale: str, *, as_table: bool = False) -> RatingTable:
+def read_ratings(path: str, scale: str, *, as_table: bool = False, read_options: ReadOptions | None = None) -> RatingTable:
     """The ratings file as subjects x raters; a contingency table is refused unless ``as_table``,
     in which case its counts become one row per subject with two raters."""
-    from protolint.ratings_csv import read_table
+    from protolint.data import read_rating_table
 
     if as_table:
-        table = read_table(path, numeric=True, kind="category", scale="counts", allow_constant=True)
+        table = read_rating_table(path, read_options, numeric=True, kind="category", scale="counts", allow_constant=True)
         if not looks_like_contingency_table(table):
             raise LocatedError(path, 1, None, "--table needs a square table of whole counts whose row labels (first column) "
                                               "are the same categories as the column headers")
         return _expand_table(table)
-    table = read_table(path, numeric=scale != "nominal", kind="rater", scale=scale, allow_constant=True)
+    table = read_rating_table(path, read_options, numeric=scale != "nominal", kind="rater", scale=scale, allow_constant=True)
     if looks_like_contingency_table(table):
         raise LocatedError(
             path, 1, None,
@@ -94,7 +94,7 @@ def read_ratings(path: str, scale: str, *, as_table: bool = False) -> RatingTabl
 def _expand_table(table: RatingTable) -> RatingTable:
     import numpy as np
 
-    from protolint.ratings_csv import RatingTable
+    from protolint.data.table import RatingTable
 
     try:
         row_values = [float(label) for label in table.subjects]
@@ -117,4 +117,5 @@ def _expand_table(table: RatingTable) -> RatingTable:
         lines=tuple(0 for _ in pairs),
         values=values,
         labels=labels,
+        provenance=table.provenance,
     )

@@ -11,10 +11,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from protolint import CAUTION
 from protolint.errors import ProtolintError
+
+if TYPE_CHECKING:
+    from protolint.data import RatingTable, ReadOptions
 
 FEW_RESPONDENTS = 30
 
@@ -54,6 +57,8 @@ class ConsistencyReport:
     item_statistics: tuple[ItemRow, ...]
     notes: tuple[str, ...]
     warnings: tuple[str, ...]
+    input: dict[str, Any] | None = None
+    """Where the table came from (the reader's provenance summary), when known."""
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -72,21 +77,22 @@ class ConsistencyReport:
             "item_statistics": [item.to_json() for item in self.item_statistics],
             "notes": list(self.notes),
             "warnings": list(self.warnings),
+            "input": self.input,
             "caution": CAUTION,
         }
 
 
-def analyse_file(path: str, confidence: float = 0.95) -> ConsistencyReport:
-    """Read an items CSV file and analyse it."""
-    from protolint.ratings_csv import read_table
+def analyse_file(path: str, confidence: float = 0.95, read_options: ReadOptions | None = None) -> ConsistencyReport:
+    """Read an items file (any format the shared reader takes) and analyse it."""
+    from protolint.data import read_rating_table
 
     if not 0.0 < confidence < 1.0:
         raise ProtolintError(f"--confidence must be between 0 and 1, got {confidence}")
-    table = read_table(path, numeric=True, kind="item", scale="item scores", allow_constant=True)
+    table = read_rating_table(path, read_options, numeric=True, kind="item", scale="item scores", allow_constant=True)
     return analyse(table, confidence)
 
 
-def analyse(table: Any, confidence: float = 0.95) -> ConsistencyReport:
+def analyse(table: RatingTable, confidence: float = 0.95) -> ConsistencyReport:
     """Cronbach's alpha, item statistics, SEM and MDC95 of a respondents x items table."""
     import numpy as np
 
@@ -125,6 +131,7 @@ def analyse(table: Any, confidence: float = 0.95) -> ConsistencyReport:
         confidence=confidence, alpha=result.value, ci_low=result.ci.low, ci_high=result.ci.high,
         sd_total=result.sd_total, sem=result.sem, mdc95=result.mdc95, item_statistics=items,
         notes=tuple(notes), warnings=tuple(warnings),
+        input=table.provenance.to_json() if table.provenance is not None else None,
     )
 
 
@@ -139,6 +146,8 @@ def _num(x: float | None) -> str:
 def format_text(report: ConsistencyReport, width: int = 100) -> str:
     import textwrap
 
+    from protolint.data.provenance import provenance_lines
+
     def wrap(text: str, indent: str = "") -> list[str]:
         return textwrap.wrap(text, width=width, initial_indent=indent, subsequent_indent=indent + "  " if indent else "")
 
@@ -146,6 +155,7 @@ def format_text(report: ConsistencyReport, width: int = 100) -> str:
     lines = [
         f"Internal consistency of {report.file}",
         f"{report.respondents} respondents x {report.items} items",
+        *provenance_lines(report.input),
         "",
         f"Cronbach's alpha     {report.alpha:.3f}   {level:g}% CI [{report.ci_low:.3f}, {report.ci_high:.3f}] (Feldt 1965)",
         f"SD of total score    {report.sd_total:.3f}",

@@ -2,12 +2,18 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import click
 
 from protolint.analysis.agreement import DEFAULT_BOOTSTRAP, SCALES
 from protolint.commands._shared import emit, to_json
 from protolint.commands.base import ProtolintCommand
+from protolint.data.options import TABLE_ROLES, reader_options
 from protolint.errors import ProtolintError
+
+if TYPE_CHECKING:
+    from protolint.data import ReadOptions
 
 
 @click.command("agreement", cls=ProtolintCommand)
@@ -26,12 +32,16 @@ from protolint.errors import ProtolintError
               help="Bootstrap replicates for Krippendorff's alpha interval; 0 for no interval.")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text", show_default=True, help="Output format.")
 @click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write to this file instead of standard output.")
+@reader_options(roles=TABLE_ROLES)
 def command(ratings: str, scale: str, confidence: float, categories: str | None, plan_file: str | None,
-            instrument: str | None, as_table: bool, bootstrap: int, fmt: str, output: str | None) -> None:
+            instrument: str | None, as_table: bool, bootstrap: int, fmt: str, output: str | None,
+            read_options: ReadOptions) -> None:
     """Reliability coefficients from rating data.
 
     RATINGS.csv has a header row, one row per subject, the subject id in the first column and
-    one column per rater (or occasion); an empty cell is a missing rating. Interval scale: the
+    one column per rater (or occasion); an empty cell is a missing rating. The file may also be
+    .tsv, .xlsx, Dataset-JSON 1.1 (.json, .ndjson) or SAS transport (.xpt), and long data (one
+    row per rating) is read with --subject/--rater/--score (or --columns sdtm-qs). Interval scale: the
     six ICC forms and Krippendorff's alpha, judged by Koo & Li (2016). Ordinal and nominal
     scales: Krippendorff's alpha, Fleiss' kappa, Cohen's kappa (two raters) and Gwet's AC1
     (AC2 on ordinal data), judged by Landis & Koch (1977). Each interpretation judges the whole
@@ -42,6 +52,7 @@ def command(ratings: str, scale: str, confidence: float, categories: str | None,
       protolint agreement certification_photos.csv --scale ordinal --categories 0-4
       protolint agreement grades.csv --scale ordinal --plan plan.yaml --instrument PHG5 --format json
       protolint agreement crosstab.csv --table --scale nominal
+      protolint agreement qs.xpt --columns sdtm-qs --where QSTESTCD=HLSC8TOT
     """
     from protolint.analysis import agreement, agreement_input
 
@@ -56,7 +67,7 @@ def command(ratings: str, scale: str, confidence: float, categories: str | None,
     elif plan_file is not None and instrument is not None:
         declared = agreement_input.categories_from_plan(plan_file, instrument)
         source = f"the scale of {instrument} in {plan_file}"
-    table = agreement_input.read_ratings(ratings, scale, as_table=as_table)
+    table = agreement_input.read_ratings(ratings, scale, as_table=as_table, read_options=read_options)
     report = agreement.analyse(table, scale, confidence, categories=declared, categories_source=source,
                                bootstrap=bootstrap, read_as_table=as_table)
     text = to_json(report.to_json()) if fmt == "json" else agreement.format_text(report)

@@ -2,10 +2,16 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import click
 
 from protolint.commands._shared import emit, to_json
 from protolint.commands.base import ProtolintCommand
+from protolint.data.options import TABLE_ROLES, reader_options
+
+if TYPE_CHECKING:
+    from protolint.data import ReadOptions
 
 
 @click.command("consistency", cls=ProtolintCommand)
@@ -18,7 +24,9 @@ def command(items: str, confidence: float, fmt: str, output: str | None, read_op
     """Internal consistency of item data: Cronbach's alpha, item statistics, SEM, MDC.
 
     ITEMS.csv has a header row, one row per respondent with an id in the first column, and one
-    column per item; respondents with an empty cell are left out and counted. The SEM and MDC
+    column per item; respondents with an empty cell are left out and counted. Other formats and
+    long data (one row per item score) as for `agreement` (--item, --score, --columns sdtm-qs).
+    The SEM and MDC
     rest on alpha (internal consistency), not on the test-retest or inter-rater reliability
     that `protolint check` uses for a plan's SEM.
 
@@ -28,6 +36,6 @@ def command(items: str, confidence: float, fmt: str, output: str | None, read_op
     """
     from protolint.analysis import consistency
 
-    report = consistency.analyse_file(items, confidence)
+    report = consistency.analyse_file(items, confidence, read_options)
     text = to_json(report.to_json()) if fmt == "json" else consistency.format_text(report)
     emit(text, output, f"{fmt} consistency report")
