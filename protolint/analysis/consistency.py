@@ -163,7 +163,7 @@ def format_text(report: ConsistencyReport, width: int = 100) -> str:
         f"MDC95                {report.mdc95:.3f}   = 1.96 * sqrt(2) * SEM",
         "",
     ]
-    lines += wrap(f"Which reliability the SEM rests on: {SEM_BASIS}")
+    lines += wrap(f"Which reliability the SEM rests on: {SEM_BASIS.replace('`', '')}")
     lines.append("")
     width_item = max(4, *(len(item.item) for item in report.item_statistics))
     header = f"{'Item':<{width_item}}    Mean      SD  r(item, rest)  alpha if deleted"
