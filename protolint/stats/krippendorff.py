@@ -33,6 +33,9 @@ DEFAULT_BOOTSTRAP = 1000
 _CHUNK_CELLS = 2_000_000
 # Ratio level, expected disagreement: rows of the distinct-value difference matrix per block.
 _DELTA_BLOCK = 2_000_000
+# Up to this many distinct values (or one per coder, if more) the units x values counts are
+# kept: for category data they are as small as the data and give the fastest bootstrap.
+_FEW_VALUES = 32
 
 
 @dataclass(frozen=True, slots=True)
@@ -82,6 +85,7 @@ class _Units:
     m: NDArray[np.float64]  # values per unit
     codes: NDArray[np.intp] | None  # index into ``values`` (missing: 0, masked by ``present``)
     values: NDArray[np.float64] | None  # distinct values, sorted (coded levels only)
+    counts: NDArray[np.float64] | None  # units x values, only when there are few values
 
 
 def _code(pooled: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.intp]]:
@@ -106,12 +110,20 @@ def _units(data: NDArray[np.float64], level: str) -> _Units:
         raise ValueError("ratings has no unit (subject) with two or more values; alpha is undefined")
     x = data[pairable]
     present = present[pairable]
-    codes = values = None
+    codes = values = counts = None
     if level != "interval":
         values, inverse = _code(x[present])
         codes = np.zeros(x.shape, dtype=np.intp)
         codes[present] = inverse
-    return _Units(x=np.where(present, x, 0.0), present=present, m=m[pairable].astype(float), codes=codes, values=values)
+        if values.size <= max(x.shape[1], _FEW_VALUES):
+            # Category data: the units x categories counts are no bigger than the data (or a
+            # small multiple of it), and matrix products on them are the fastest route.
+            rows = np.nonzero(present)[0]
+            v = values.size
+            counts = np.bincount(rows * v + inverse, minlength=x.shape[0] * v).reshape(x.shape[0], v).astype(float)
+    return _Units(
+        x=np.where(present, x, 0.0), present=present, m=m[pairable].astype(float), codes=codes, values=values, counts=counts
+    )
 
 
 def _pairs_sum_sq(scores: NDArray[np.float64], present: NDArray[np.bool_], m: NDArray[np.float64]) -> NDArray[np.float64]:
@@ -151,6 +163,10 @@ def _ratio_delta(a: NDArray[np.float64], b: NDArray[np.float64]) -> NDArray[np.f
 
 def _ratio_within(units: _Units) -> NDArray[np.float64]:
     """Per unit: sum over ordered pairs of the ratio difference, divided by m_u - 1."""
+    if units.counts is not None:
+        assert units.values is not None
+        delta = _ratio_delta(units.values[:, None], units.values[None, :])
+        return ((units.counts @ delta) * units.counts).sum(axis=1) / (units.m - 1.0)
     x, present = units.x, units.present
     total = np.zeros(x.shape[0])
     k = x.shape[1]
@@ -174,6 +190,8 @@ def _ratio_expected(values: NDArray[np.float64], n_c: NDArray[np.float64]) -> ND
 def _nominal_within(units: _Units) -> NDArray[np.float64]:
     """Per unit: ordered pairs that disagree, m^2 - sum_c n_uc^2, divided by m_u - 1."""
     assert units.codes is not None and units.values is not None
+    if units.counts is not None:
+        return (np.square(units.m) - np.square(units.counts).sum(axis=1)) / (units.m - 1.0)
     n_units, v = units.x.shape[0], units.values.size
     rows = np.broadcast_to(np.arange(n_units)[:, None], units.codes.shape)[units.present]
     keys = rows.astype(np.int64) * v + units.codes[units.present]
@@ -184,10 +202,29 @@ def _nominal_within(units: _Units) -> NDArray[np.float64]:
     return (np.square(units.m) - same) / (units.m - 1.0)
 
 
+def _ordinal_within(units: _Units, scores: NDArray[np.float64]) -> NDArray[np.float64]:
+    """Per unit and replicate (units x B): ordered-pair squared midrank differences / (m_u - 1).
+
+    ``scores`` (B x V) are each replicate's midranks. With the counts, the pair sums come from
+    per-unit sums of (centred) scores; without them, from the scores gathered cell by cell.
+    """
+    assert units.codes is not None
+    if units.counts is not None:
+        centred = scores - scores.mean(axis=1, keepdims=True)  # smaller numbers, less cancellation
+        s1 = units.counts @ centred.T
+        s2 = units.counts @ np.square(centred).T
+        m = units.m[:, None]
+        return np.maximum(2.0 * (m * s2 - np.square(s1)) / (m - 1.0), 0.0)
+    cell_scores = scores[:, units.codes] * units.present  # B x units x coders
+    return _pairs_sum_sq(cell_scores, units.present, units.m).T
+
+
 def _margins(units: _Units, weights: NDArray[np.float64] | None) -> NDArray[np.float64]:
     """Value counts n_c (V,), or bootstrap-weighted ones (B x V) for unit weights (B x units)."""
     assert units.codes is not None and units.values is not None
     v = units.values.size
+    if units.counts is not None:
+        return units.counts.sum(axis=0) if weights is None else weights @ units.counts
     codes = units.codes[units.present]
     if weights is None:
         return np.bincount(codes, minlength=v).astype(float)
@@ -209,7 +246,7 @@ def _point(units: _Units, level: str) -> tuple[float, float]:
         n_c = _margins(units, None)
         if level == "ordinal":
             scores = _midranks(n_c)
-            observed = float(_pairs_sum_sq(scores[units.codes] * units.present, units.present, units.m).sum())
+            observed = float(_ordinal_within(units, scores[None, :])[:, 0].sum())
             expected = float(_spread(n_c, scores))
         elif level == "nominal":
             observed = float(_nominal_within(units).sum())
@@ -255,18 +292,17 @@ def _bootstrap(units: _Units, level: str, replicates: int, seed: int) -> NDArray
         d_unit = _nominal_within(units)
     elif level == "ratio":
         d_unit = _ratio_within(units)
-    for weights in _replicate_weights(rng, n_units, replicates, units.x.size):
+    per_replicate = max(units.x.size, 0 if units.counts is None else units.counts.size)
+    for weights in _replicate_weights(rng, n_units, replicates, per_replicate):
         n = weights @ units.m
         if level == "interval":
             observed = weights @ d_unit
             t1, t2 = weights @ s1c, weights @ s2c
             expected = 2.0 * (n * t2 - np.square(t1))
         elif level == "ordinal":
-            assert units.codes is not None
             n_c = _margins(units, weights)
             scores = _midranks(n_c)  # replicates x V
-            cell_scores = scores[:, units.codes] * units.present  # replicates x units x coders
-            observed = (weights * _pairs_sum_sq(cell_scores, units.present, units.m)).sum(axis=1)
+            observed = np.einsum("bu,ub->b", weights, _ordinal_within(units, scores))
             expected = _spread(n_c, scores)
         else:
             observed = weights @ d_unit
