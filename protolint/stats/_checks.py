@@ -117,6 +117,10 @@ def complete_rows(name: str, arr: NDArray[np.float64], *, min_rows: int = 2) -> 
     """Keep only rows without a missing cell; return them and how many were dropped."""
     import numpy as np
 
+    if not math.isnan(float(arr.sum())):  # no missing cell (matrix() refuses infinities)
+        if arr.shape[0] < min_rows:
+            raise ValueError(f"{name} has {arr.shape[0]} complete row(s); at least {min_rows} are needed")
+        return arr, 0
     keep = ~np.isnan(arr).any(axis=1)
     kept = arr[keep]
     dropped = int(arr.shape[0] - kept.shape[0])
@@ -179,11 +183,11 @@ def constant_column_warnings(arr: NDArray[np.float64], noun: str = "rater") -> l
     import numpy as np
 
     out = []
-    with np.errstate(invalid="ignore"):
-        low = np.nanmin(np.where(np.isnan(arr), np.inf, arr), axis=0)
-        high = np.nanmax(np.where(np.isnan(arr), -np.inf, arr), axis=0)
-    counts = (~np.isnan(arr)).sum(axis=0)
-    for j in np.flatnonzero((counts >= 2) & (low == high)):
+    low = np.fmin.reduce(arr, axis=0)  # fmin/fmax skip NaN without a copy of the data
+    high = np.fmax.reduce(arr, axis=0)
+    candidates = np.flatnonzero(low == high)
+    counts = (~np.isnan(arr[:, candidates])).sum(axis=0) if candidates.size else np.zeros(0, dtype=int)
+    for j in candidates[counts >= 2]:
         out.append(f"{noun} {j + 1} gave the same rating ({low[j]:g}) every time")
     return out
 

@@ -75,27 +75,37 @@ class CronbachAlphaResult:
     warnings: tuple[str, ...] = ()
 
 
-def _item_terms(x: NDArray[np.float64]) -> tuple[float, NDArray[np.float64], NDArray[np.float64]]:
+def _item_terms(
+    x: NDArray[np.float64],
+) -> tuple[float, NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.bool_]]:
     """Alpha, alpha-if-item-deleted and corrected item-total r, all from one covariance matrix.
 
     With C the item covariance matrix, S = sum C, T = trace C and r_j the j-th row sum, the
     rest total of item j has variance S - 2 r_j + C_jj and item variances T - C_jj, and its
     covariance with item j is r_j - C_jj. One pass over the data instead of k deletions.
-    NaN marks an undefined value (a constant total, a constant item or rest).
+    NaN marks an undefined value (a constant total, a constant item or rest). Also returns
+    the item means, the item SDs and which items are constant.
     """
     n, k = x.shape
-    centred = x - x.mean(axis=0)
+    means = x.mean(axis=0)
+    centred = x - means
     cov = centred.T @ centred / (n - 1)
     diag = np.diag(cov).copy()
     total = float(cov.sum())
     trace = float(diag.sum())
     rows = cov.sum(axis=1)
     rest_var = total - 2.0 * rows + diag
-    # Constancy is tested on the data, not on rounded variances.
-    item_constant = np.ptp(x, axis=0) == 0.0
-    rest_constant = np.ptp(x.sum(axis=1)[:, None] - x, axis=0) == 0.0
+    # Constancy is decided on the data, not on variances with rounding residue; the exact
+    # test runs only where a variance is near zero.
+    item_constant = (x == x[0]).all(axis=0)
+    tiny = 1e-9 * max(float(diag.max()), np.finfo(float).tiny)
+    rest_constant = np.zeros(k, dtype=bool)
+    for j in np.flatnonzero(rest_var <= tiny):
+        rest = x.sum(axis=1) - x[:, j]
+        rest_constant[j] = bool((rest == rest[0]).all())
+    total_constant = total <= tiny and bool(np.ptp(x.sum(axis=1)) == 0.0)
     with np.errstate(divide="ignore", invalid="ignore"):
-        alpha = k / (k - 1) * (1.0 - trace / total) if np.ptp(x.sum(axis=1)) > 0 else float("nan")
+        alpha = float("nan") if total_constant else k / (k - 1) * (1.0 - trace / total)
         if k > 2:
             deleted = (k - 1) / (k - 2) * (1.0 - (trace - diag) / rest_var)
         else:
@@ -103,7 +113,7 @@ def _item_terms(x: NDArray[np.float64]) -> tuple[float, NDArray[np.float64], NDA
         deleted = np.where(rest_constant, np.nan, deleted)
         r = (rows - diag) / np.sqrt(diag * rest_var)
     r = np.where(item_constant | rest_constant, np.nan, r)
-    return float(alpha), deleted, r
+    return float(alpha), deleted, r, means, np.sqrt(np.where(item_constant, 0.0, diag)), item_constant
 
 
 def _optional(value: float) -> float | None:
@@ -145,16 +155,13 @@ def cronbach_alpha(items: ArrayLike, confidence: float = 0.95) -> CronbachAlphaR
     level = _checks.confidence(confidence)
     x, n_dropped = _checks.complete_rows("items", _checks.matrix("items", items))
     n, k = x.shape
-    alpha, deleted, item_r = _item_terms(x)
+    alpha, deleted, item_r, means, sds, item_constant = _item_terms(x)
     if math.isnan(alpha):
         raise ValueError("items has a constant total score; Cronbach's alpha is undefined")
     half = (1.0 - level) / 2.0
     df1, df2 = n - 1, (n - 1) * (k - 1)
     low = 1.0 - (1.0 - alpha) * float(special.fdtri(df1, df2, 1.0 - half))
     high = 1.0 - (1.0 - alpha) * float(special.fdtri(df1, df2, half))
-    total = x.sum(axis=1)
-    means = x.mean(axis=0)
-    sds = x.std(axis=0, ddof=1)
     stats = tuple(
         ItemStatistics(
             index=j,
@@ -166,12 +173,12 @@ def cronbach_alpha(items: ArrayLike, confidence: float = 0.95) -> CronbachAlphaR
         for j in range(k)
     )
     warnings = list(_checks.few_subjects_warning("Cronbach's alpha", n, "respondent"))
-    for j in np.flatnonzero(np.ptp(x, axis=0) == 0.0):
+    for j in np.flatnonzero(item_constant):
         warnings.append(
             f"item {j + 1} has the same score ({x[0, j]:g}) for every respondent: it adds nothing to the "
             "total's variance and has no item-total correlation; alpha is computed with it"
         )
-    sd_total = float(total.std(ddof=1))
+    sd_total = float(x.sum(axis=1).std(ddof=1))
     sem_total = sem(sd_total, min(max(alpha, 0.0), 1.0))
     return CronbachAlphaResult(
         value=float(alpha),
