@@ -98,7 +98,7 @@ def _item_terms(
     # Constancy is decided on the data, not on variances with rounding residue; the exact
     # test runs only where a variance is near zero.
     item_constant = (x == x[0]).all(axis=0)
-    tiny = 1e-9 * max(float(diag.max()), np.finfo(float).tiny)
+    tiny = 1e-9 * max(float(diag.max()), float(np.finfo(float).tiny))
     rest_constant = np.zeros(k, dtype=bool)
     for j in np.flatnonzero(rest_var <= tiny):
         rest = x.sum(axis=1) - x[:, j]

@@ -231,7 +231,8 @@ def _margins(units: _Units, weights: NDArray[np.float64] | None) -> NDArray[np.f
     rows = np.broadcast_to(np.arange(units.x.shape[0])[:, None], units.codes.shape)[units.present]
     b = weights.shape[0]
     flat = (np.arange(b)[:, None] * v + codes[None, :]).ravel()
-    return np.bincount(flat, weights=weights[:, rows].ravel(), minlength=b * v).reshape(b, v)
+    margins = np.bincount(flat, weights=weights[:, rows].ravel(), minlength=b * v).reshape(b, v)
+    return np.asarray(margins, dtype=float)
 
 
 def _point(units: _Units, level: str) -> tuple[float, float]:
