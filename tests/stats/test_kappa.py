@@ -265,3 +265,19 @@ def test_too_few_subjects_give_no_interval() -> None:
     assert f.value == 1.0 and np.isnan(f.ci.low) and any("no interval" in w for w in f.warnings)
     # Enough subjects: no such warning.
     assert not any("rests on" in w for w in cohen_kappa(random_ratings(29, 40, 2, 4)).warnings)
+
+
+def test_fleiss_on_gwets_five_observers_with_missing_ratings() -> None:
+    # Gwet (2014) / irrCAC's raw_5observers: 5 observers, 15 units on a 0-3 scale, only
+    # observer 3 rated every unit, so listwise deletion keeps a single subject and fails.
+    from irrCAC.datasets import raw_5observers
+
+    x = raw_5observers().to_numpy(dtype=float)
+    r = fleiss_kappa(x)
+    theirs = CAC(pd.DataFrame(x), digits=12).fleiss()["est"]
+    assert r.value == pytest.approx(theirs["coefficient_value"], abs=1e-9)
+    assert r.value == pytest.approx(0.45762, abs=5e-6)  # as irrCAC prints it (5 digits)
+    assert r.se == pytest.approx(theirs["se"], abs=1e-9)
+    assert (r.n_subjects, r.n_ratings, r.n_pairable) == (15, int((~np.isnan(x)).sum()), 15)
+    with pytest.raises(ValueError, match="1 complete row"):
+        fleiss_kappa(x, missing="complete")
