@@ -117,6 +117,10 @@ def complete_rows(name: str, arr: NDArray[np.float64], *, min_rows: int = 2) -> 
     """Keep only rows without a missing cell; return them and how many were dropped."""
     import numpy as np
 
+    if not math.isnan(float(arr.sum())):  # no missing cell (matrix() refuses infinities)
+        if arr.shape[0] < min_rows:
+            raise ValueError(f"{name} has {arr.shape[0]} complete row(s); at least {min_rows} are needed")
+        return arr, 0
     keep = ~np.isnan(arr).any(axis=1)
     kept = arr[keep]
     dropped = int(arr.shape[0] - kept.shape[0])
@@ -140,23 +144,52 @@ def encode(
     """
     import numpy as np
 
-    observed = np.unique(arr[~np.isnan(arr)])
-    if categories is None:
-        cats = observed
-    else:
-        cats = np.unique(np.asarray(categories, dtype=float))
-        if np.isnan(cats).any():
-            raise ValueError("categories must not contain NaN")
-        unknown = np.setdiff1d(observed, cats)
-        if unknown.size:
-            raise ValueError(
-                f"{name} contains value(s) {', '.join(f'{u:g}' for u in unknown[:5])} "
-                f"that are not in categories {[float(c) for c in cats]}"
-            )
-    codes = np.full(arr.shape, -1, dtype=np.intp)
     present = ~np.isnan(arr)
-    codes[present] = np.searchsorted(cats, arr[present])
+    pooled = arr[present]
+    codes = np.full(arr.shape, -1, dtype=np.intp)
+    if categories is None:
+        if pooled.size == 0:
+            return np.empty(0), codes
+        low, high = float(pooled.min()), float(pooled.max())
+        if high - low < 100_000 and np.array_equal(pooled, np.round(pooled)):
+            # Whole-number codes (the usual case): a lookup by offset instead of sorting every cell.
+            offsets = (pooled - low).astype(np.intp)
+            used = np.bincount(offsets) > 0
+            cats = low + np.flatnonzero(used).astype(float)
+            codes[present] = (np.cumsum(used) - 1)[offsets]
+        else:
+            cats, inverse = np.unique(pooled, return_inverse=True)
+            codes[present] = inverse.ravel()
+        return cats, codes
+    cats = np.unique(np.asarray(categories, dtype=float))
+    if np.isnan(cats).any():
+        raise ValueError("categories must not contain NaN")
+    if cats.size == 0:
+        raise ValueError("categories must not be empty")
+    index = np.minimum(np.searchsorted(cats, pooled), cats.size - 1)
+    unknown = cats[index] != pooled
+    if unknown.any():
+        shown = np.unique(pooled[unknown])[:5]
+        raise ValueError(
+            f"{name} contains value(s) {', '.join(f'{u:g}' for u in shown)} "
+            f"that are not in categories {[float(c) for c in cats]}"
+        )
+    codes[present] = index
     return cats, codes
+
+
+def constant_column_warnings(arr: NDArray[np.float64], noun: str = "rater") -> list[str]:
+    """One sentence per column whose ratings (at least two) are all the same value."""
+    import numpy as np
+
+    out = []
+    low = np.fmin.reduce(arr, axis=0)  # fmin/fmax skip NaN without a copy of the data
+    high = np.fmax.reduce(arr, axis=0)
+    candidates = np.flatnonzero(low == high)
+    counts = (~np.isnan(arr[:, candidates])).sum(axis=0) if candidates.size else np.zeros(0, dtype=int)
+    for j in candidates[counts >= 2]:
+        out.append(f"{noun} {j + 1} gave the same rating ({low[j]:g}) every time")
+    return out
 
 
 def category_counts(codes: NDArray[np.intp], n_categories: int) -> NDArray[np.float64]:
@@ -186,3 +219,17 @@ def agreement_weights(values: NDArray[np.float64], kind: str) -> NDArray[np.floa
     diff = np.abs(values[:, None] - values[None, :]) / (values[-1] - values[0])
     weights = 1.0 - diff if kind == "linear" else 1.0 - diff**2
     return np.asarray(weights, dtype=float)
+
+
+# Fewer subjects than this and a coefficient's estimate and interval carry little information.
+# Common practice (no single source; sample-size methods such as Walter, Eliasziw & Donner 1998
+# ask for far more): the warning is a prompt to look, not a rule.
+FEW_SUBJECTS = 10
+
+
+def few_subjects_warning(coefficient: str, n: int, noun: str = "subject") -> tuple[str, ...]:
+    """A one-sentence warning when ``coefficient`` rests on fewer than FEW_SUBJECTS ``noun``s."""
+    if n >= FEW_SUBJECTS:
+        return ()
+    counted = f"{n} {noun}" if n == 1 else f"{n} {noun}s"
+    return (f"{coefficient} rests on {counted} only; with fewer than {FEW_SUBJECTS} the estimate and its interval mean little",)

@@ -13,7 +13,6 @@ from protolint.stats._results import ConfidenceInterval
 from protolint.stats.measurement_error import mdc95, sem
 
 
-
 @dataclass(frozen=True, slots=True)
 class ItemStatistics:
     """Statistics of one item.
@@ -59,6 +58,8 @@ class CronbachAlphaResult:
     mdc95 : float
         Minimal detectable change, ``1.96 * sqrt(2) * sem``.
     method : str
+    warnings : tuple of str
+        Caveats in plain words: few respondents, a constant (e.g. ceiling) item.
     """
 
     value: float
@@ -71,21 +72,52 @@ class CronbachAlphaResult:
     sem: float
     mdc95: float
     method: str
+    warnings: tuple[str, ...] = ()
 
 
-def _alpha(x: NDArray[np.float64]) -> float:
-    k = x.shape[1]
-    total_var = float(x.sum(axis=1).var(ddof=1))
-    if total_var == 0.0:
-        return float("nan")
-    return k / (k - 1) * (1.0 - float(x.var(axis=0, ddof=1).sum()) / total_var)
+def _item_terms(
+    x: NDArray[np.float64],
+) -> tuple[float, NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], NDArray[np.bool_]]:
+    """Alpha, alpha-if-item-deleted and corrected item-total r, all from one covariance matrix.
+
+    With C the item covariance matrix, S = sum C, T = trace C and r_j the j-th row sum, the
+    rest total of item j has variance S - 2 r_j + C_jj and item variances T - C_jj, and its
+    covariance with item j is r_j - C_jj. One pass over the data instead of k deletions.
+    NaN marks an undefined value (a constant total, a constant item or rest). Also returns
+    the item means, the item SDs and which items are constant.
+    """
+    n, k = x.shape
+    means = x.mean(axis=0)
+    centred = x - means
+    cov = centred.T @ centred / (n - 1)
+    diag = np.diag(cov).copy()
+    total = float(cov.sum())
+    trace = float(diag.sum())
+    rows = cov.sum(axis=1)
+    rest_var = total - 2.0 * rows + diag
+    # Constancy is decided on the data, not on variances with rounding residue; the exact
+    # test runs only where a variance is near zero.
+    item_constant = (x == x[0]).all(axis=0)
+    tiny = 1e-9 * max(float(diag.max()), float(np.finfo(float).tiny))
+    rest_constant = np.zeros(k, dtype=bool)
+    for j in np.flatnonzero(rest_var <= tiny):
+        rest = x.sum(axis=1) - x[:, j]
+        rest_constant[j] = bool((rest == rest[0]).all())
+    total_constant = total <= tiny and bool(np.ptp(x.sum(axis=1)) == 0.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        alpha = float("nan") if total_constant else k / (k - 1) * (1.0 - trace / total)
+        if k > 2:
+            deleted = (k - 1) / (k - 2) * (1.0 - (trace - diag) / rest_var)
+        else:
+            deleted = np.full(k, np.nan)
+        deleted = np.where(rest_constant, np.nan, deleted)
+        r = (rows - diag) / np.sqrt(diag * rest_var)
+    r = np.where(item_constant | rest_constant, np.nan, r)
+    return float(alpha), deleted, r, means, np.sqrt(np.where(item_constant, 0.0, diag)), item_constant
 
 
-def _corr(a: NDArray[np.float64], b: NDArray[np.float64]) -> float | None:
-    sa, sb = a.std(), b.std()
-    if sa == 0.0 or sb == 0.0:
-        return None
-    return float(np.mean((a - a.mean()) * (b - b.mean())) / (sa * sb))
+def _optional(value: float) -> float | None:
+    return None if math.isnan(value) else float(value)
 
 
 def cronbach_alpha(items: ArrayLike, confidence: float = 0.95) -> CronbachAlphaResult:
@@ -123,32 +155,30 @@ def cronbach_alpha(items: ArrayLike, confidence: float = 0.95) -> CronbachAlphaR
     level = _checks.confidence(confidence)
     x, n_dropped = _checks.complete_rows("items", _checks.matrix("items", items))
     n, k = x.shape
-    alpha = _alpha(x)
+    alpha, deleted, item_r, means, sds, item_constant = _item_terms(x)
     if math.isnan(alpha):
         raise ValueError("items has a constant total score; Cronbach's alpha is undefined")
     half = (1.0 - level) / 2.0
     df1, df2 = n - 1, (n - 1) * (k - 1)
     low = 1.0 - (1.0 - alpha) * float(special.fdtri(df1, df2, 1.0 - half))
     high = 1.0 - (1.0 - alpha) * float(special.fdtri(df1, df2, half))
-    total = x.sum(axis=1)
-    stats = []
-    for j in range(k):
-        rest = np.delete(x, j, axis=1)
-        if k > 2:
-            a_del = _alpha(rest)
-            alpha_if_deleted: float | None = None if math.isnan(a_del) else a_del
-        else:
-            alpha_if_deleted = None
-        stats.append(
-            ItemStatistics(
-                index=j,
-                mean=float(x[:, j].mean()),
-                sd=float(x[:, j].std(ddof=1)),
-                corrected_item_total_r=_corr(x[:, j], total - x[:, j]),
-                alpha_if_deleted=alpha_if_deleted,
-            )
+    stats = tuple(
+        ItemStatistics(
+            index=j,
+            mean=float(means[j]),
+            sd=float(sds[j]),
+            corrected_item_total_r=_optional(item_r[j]),
+            alpha_if_deleted=_optional(deleted[j]),
         )
-    sd_total = float(total.std(ddof=1))
+        for j in range(k)
+    )
+    warnings = list(_checks.few_subjects_warning("Cronbach's alpha", n, "respondent"))
+    for j in np.flatnonzero(item_constant):
+        warnings.append(
+            f"item {j + 1} has the same score ({x[0, j]:g}) for every respondent: it adds nothing to the "
+            "total's variance and has no item-total correlation; alpha is computed with it"
+        )
+    sd_total = float(x.sum(axis=1).std(ddof=1))
     sem_total = sem(sd_total, min(max(alpha, 0.0), 1.0))
     return CronbachAlphaResult(
         value=float(alpha),
@@ -156,9 +186,10 @@ def cronbach_alpha(items: ArrayLike, confidence: float = 0.95) -> CronbachAlphaR
         n_respondents=int(n),
         n_items=int(k),
         n_dropped=n_dropped,
-        items=tuple(stats),
+        items=stats,
         sd_total=sd_total,
         sem=sem_total,
         mdc95=mdc95(sem_total),
         method="Cronbach's alpha (Cronbach 1951) with Feldt (1965) interval",
+        warnings=tuple(warnings),
     )

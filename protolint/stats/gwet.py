@@ -6,6 +6,7 @@ The same per-subject machinery gives Gwet's (2014) variance for Fleiss' kappa, w
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -36,6 +37,15 @@ class GwetResult:
     n_categories : int
         Number of categories q.
     method : str
+    categories : tuple of float
+        The category set used (declared, or the observed values).
+    unused_categories : tuple of float
+        Declared categories nobody used (they still count in q and in the weights).
+    n_ratings : int
+        Ratings used.
+    warnings : tuple of str
+        Caveats in plain words (a constant rater, few subjects, no interval: its bounds are
+        then NaN).
     """
 
     value: float
@@ -47,6 +57,10 @@ class GwetResult:
     n_subjects: int
     n_categories: int
     method: str
+    categories: tuple[float, ...] = ()
+    unused_categories: tuple[float, ...] = ()
+    n_ratings: int = 0
+    warnings: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -95,20 +109,44 @@ def _gwet_terms(counts: NDArray[np.float64], w: NDArray[np.float64], chance: str
     return _Terms(float(value), float(np.sqrt(var)), pa, pe, n)
 
 
+def interval_warning(se: float, n: int) -> str | None:
+    """Why no t interval can be computed from ``se`` on ``n`` subjects, or None."""
+    if n < 2:
+        return f"no interval: it needs at least 2 subjects, got {n}"
+    if not se > 0.0:
+        return (
+            f"no interval: the standard error is {'0' if se == 0.0 else 'undefined'} on {n} subjects "
+            "(every subject contributes the same agreement), so the interval would have no width"
+        )
+    return None
+
+
 def _t_interval(value: float, se: float, n: int, level: float) -> ConfidenceInterval:
+    """Gwet's t interval, or NaN bounds when none can be computed (see interval_warning)."""
     from scipy import special
 
+    if interval_warning(se, n) is not None:
+        return ConfidenceInterval(float("nan"), float("nan"), level)
     t = float(special.stdtrit(n - 1, 1.0 - (1.0 - level) / 2.0))
     # Clipped to the coefficient's range [-1, 1], as Gwet's own software does for the upper bound.
     return ConfidenceInterval(max(value - t * se, -1.0), min(value + t * se, 1.0), level)
 
 
-def _gwet(ratings: ArrayLike, weights: str, confidence: float, categories: ArrayLike | None, name: str) -> GwetResult:
+def _gwet(
+    ratings: ArrayLike, weights: str, confidence: float, categories: ArrayLike | None, label: str, name: str
+) -> GwetResult:
     level = _checks.confidence(confidence)
     arr = _checks.matrix("ratings", ratings)
     values, codes = _checks.encode("ratings", arr, categories)
     w = _checks.agreement_weights(values, weights)
-    terms = _gwet_terms(_checks.category_counts(codes, values.size), w, "ac")
+    counts = _checks.category_counts(codes, values.size)
+    terms = _gwet_terms(counts, w, "ac")
+    warnings = _checks.constant_column_warnings(arr)
+    warnings += _checks.few_subjects_warning(label, int((counts.sum(axis=1) >= 2).sum()))
+    reason = interval_warning(terms.se, terms.n)
+    if reason:
+        warnings.append(reason)
+    used = counts.sum(axis=0) > 0
     return GwetResult(
         value=terms.value,
         se=terms.se,
@@ -119,10 +157,16 @@ def _gwet(ratings: ArrayLike, weights: str, confidence: float, categories: Array
         n_subjects=terms.n,
         n_categories=int(values.size),
         method=name,
+        categories=tuple(float(v) for v in values),
+        unused_categories=tuple(float(v) for v in values[~used]),
+        n_ratings=int(counts.sum()),
+        warnings=tuple(warnings),
     )
 
 
-def gwet_ac1(ratings: ArrayLike, confidence: float = 0.95, categories: ArrayLike | None = None) -> GwetResult:
+def gwet_ac1(
+    ratings: ArrayLike, confidence: float = 0.95, categories: Sequence[float] | ArrayLike | None = None
+) -> GwetResult:
     """Gwet's first-order agreement coefficient AC1 for nominal ratings.
 
     Parameters
@@ -131,9 +175,9 @@ def gwet_ac1(ratings: ArrayLike, confidence: float = 0.95, categories: ArrayLike
         Category codes (numbers), NaN = missing. Any number of raters; subjects may be rated
         by different numbers of raters.
     confidence : float, default 0.95
-    categories : array_like, optional
-        All possible categories; by default the observed values. The number of categories q
-        enters the chance agreement.
+    categories : sequence of float, optional
+        The declared category set; by default the observed values. The number of categories
+        q enters the chance agreement, so an unused category counts (irrCAC's ``categ``).
 
     Returns
     -------
@@ -152,14 +196,14 @@ def gwet_ac1(ratings: ArrayLike, confidence: float = 0.95, categories: ArrayLike
     high agreement. British Journal of Mathematical and Statistical Psychology, 61, 29-48.
     Gwet, K. L. (2014). Handbook of Inter-Rater Reliability, 4th ed. Advanced Analytics.
     """
-    return _gwet(ratings, "unweighted", confidence, categories, "Gwet's AC1 (Gwet 2008)")
+    return _gwet(ratings, "unweighted", confidence, categories, "Gwet's AC1", "Gwet's AC1 (Gwet 2008)")
 
 
 def gwet_ac2(
     ratings: ArrayLike,
     weights: str = "quadratic",
     confidence: float = 0.95,
-    categories: ArrayLike | None = None,
+    categories: Sequence[float] | ArrayLike | None = None,
 ) -> GwetResult:
     """Gwet's weighted agreement coefficient AC2 for ordered ratings.
 
@@ -170,8 +214,9 @@ def gwet_ac2(
     weights : {"quadratic", "linear", "unweighted"}, default "quadratic"
         Agreement weights computed on the category values (``unweighted`` gives AC1).
     confidence : float, default 0.95
-    categories : array_like, optional
-        All possible categories; by default the observed values.
+    categories : sequence of float, optional
+        The declared category set; by default the observed values. Unused categories count
+        in q and in the range of the weights (irrCAC's ``categ``).
 
     Returns
     -------
@@ -187,4 +232,4 @@ def gwet_ac2(
     Gwet, K. L. (2014). Handbook of Inter-Rater Reliability, 4th ed. Advanced Analytics.
     """
     _checks.choice("weights", weights, ("quadratic", "linear", "unweighted"))
-    return _gwet(ratings, weights, confidence, categories, f"Gwet's AC2, {weights} weights (Gwet 2014)")
+    return _gwet(ratings, weights, confidence, categories, "Gwet's AC2", f"Gwet's AC2, {weights} weights (Gwet 2014)")

@@ -80,6 +80,8 @@ class IccResult:
         Level of the intervals.
     method : str
         The method's name.
+    warnings : tuple of str
+        Caveats in plain words: few subjects, a rater who gave every subject the same score.
     """
 
     forms: tuple[IccForm, ...]
@@ -92,6 +94,7 @@ class IccResult:
     mse: float
     confidence: float
     method: str = "Intraclass correlation, Shrout & Fleiss (1979) / McGraw & Wong (1996)"
+    warnings: tuple[str, ...] = ()
 
     def __getitem__(self, name: str) -> IccForm:
         for form in self.forms:
@@ -244,4 +247,5 @@ def icc(ratings: ArrayLike, confidence: float = 0.95) -> IccResult:
         msc=float(msc),
         mse=float(mse),
         confidence=level,
+        warnings=tuple(_checks.constant_column_warnings(x) + list(_checks.few_subjects_warning("The ICC", n))),
     )

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
@@ -9,7 +10,9 @@ from numpy.typing import ArrayLike
 
 from protolint.stats import _checks
 from protolint.stats._results import ConfidenceInterval
-from protolint.stats.gwet import _gwet_terms, _t_interval
+from protolint.stats.gwet import _gwet_terms, _t_interval, interval_warning
+
+MISSING = ("available", "complete")
 
 
 @dataclass(frozen=True, slots=True)
@@ -35,7 +38,13 @@ class CohenKappaResult:
     n_subjects, n_dropped : int
         Subjects used, and subjects dropped for a missing rating.
     categories : tuple of float
+        The category set used (declared, or the observed values).
     method : str
+    unused_categories : tuple of float
+        Declared categories that neither rater used (they still count in the weights).
+    warnings : tuple of str
+        Caveats in plain words: a constant rater, few subjects, no interval (its bounds are
+        then NaN).
     """
 
     value: float
@@ -51,13 +60,15 @@ class CohenKappaResult:
     n_dropped: int
     categories: tuple[float, ...]
     method: str
+    unused_categories: tuple[float, ...] = ()
+    warnings: tuple[str, ...] = ()
 
 
 def cohen_kappa(
     ratings: ArrayLike,
     weights: str = "unweighted",
     confidence: float = 0.95,
-    categories: ArrayLike | None = None,
+    categories: Sequence[float] | ArrayLike | None = None,
 ) -> CohenKappaResult:
     """Cohen's kappa for two raters, with the Fleiss, Cohen & Everitt (1969) standard errors.
 
@@ -71,12 +82,19 @@ def cohen_kappa(
         quadratic (Fleiss & Cohen 1973). For equally spaced codes these equal the
         index-based weights of scikit-learn and statsmodels.
     confidence : float, default 0.95
-    categories : array_like, optional
-        All possible categories; by default those observed.
+    categories : sequence of float, optional
+        The declared category set (e.g. every score of the scale); by default the observed
+        values. Unused categories change nothing in unweighted kappa but widen the range of
+        linear and quadratic weights, as in Gwet's irrCAC (``categ.labels``) and
+        scikit-learn (``labels``).
 
     Returns
     -------
     CohenKappaResult
+
+    A rater who gives every subject the same category makes kappa 0 exactly (observed and
+    chance agreement coincide); it is computed, with a warning. When the standard error is 0
+    (perfect agreement on very few subjects) no interval is given: its bounds are NaN.
 
     Notes
     -----
@@ -114,6 +132,11 @@ def cohen_kappa(
     pe = float(p_row @ w @ p_col)
     if pe >= 1.0:
         raise ValueError("both raters used one and the same category throughout; kappa is undefined")
+    warnings = _checks.constant_column_warnings(x)
+    constant = bool(warnings)
+    if constant:
+        warnings.append("with a rater who never varies, observed and chance agreement coincide: kappa is 0")
+    warnings += _checks.few_subjects_warning("Cohen's kappa", n)
     kappa = (po - pe) / (1.0 - pe)
     wbar_row = w @ p_col  # wbar_i.
     wbar_col = p_row @ w  # wbar_.j
@@ -122,14 +145,27 @@ def cohen_kappa(
     var0 = ((np.outer(p_row, p_col) * np.square(w - wsum)).sum() - pe**2) / (n * (1.0 - pe) ** 2)
     se = float(np.sqrt(max(var, 0.0)))
     se0 = float(np.sqrt(max(var0, 0.0)))
+    if constant:
+        # Kappa is 0 identically here and both variances are 0; drop the rounding residue.
+        kappa, se, se0 = 0.0, 0.0, 0.0
     zq = float(special.ndtri(1.0 - (1.0 - level) / 2.0))
-    z = kappa / se0 if se0 > 0 else float("inf")
+    # A zero null SE comes with a constant rater, where kappa is 0 identically: no test.
+    z = kappa / se0 if se0 > 0 else float("nan")
     p_value = float(2.0 * special.ndtr(-abs(z)))
     label = "Cohen's kappa" if weights == "unweighted" else f"Cohen's weighted kappa ({weights} weights)"
+    if se > 0.0:
+        ci = ConfidenceInterval(max(kappa - zq * se, -1.0), min(kappa + zq * se, 1.0), level)
+    elif constant:
+        ci = _no_interval(level)
+        warnings.append("no interval: kappa is 0 whatever the other rater does, so it has no sampling spread")
+    else:
+        ci = _no_interval(level)
+        warnings.append(f"no interval: the standard error is 0 on {n} subjects, so the normal-theory interval has no width")
+    used = np.union1d(np.flatnonzero(p_row), np.flatnonzero(p_col))
     return CohenKappaResult(
         value=float(kappa),
         se=se,
-        ci=ConfidenceInterval(max(kappa - zq * se, -1.0), min(kappa + zq * se, 1.0), level),
+        ci=ci,
         se0=se0,
         z=float(z),
         p_value=p_value,
@@ -140,7 +176,13 @@ def cohen_kappa(
         n_dropped=n_dropped,
         categories=tuple(float(v) for v in values),
         method=f"{label}; standard errors of Fleiss, Cohen & Everitt (1969)",
+        unused_categories=tuple(float(v) for v in np.delete(values, used)),
+        warnings=tuple(warnings),
     )
+
+
+def _no_interval(level: float) -> ConfidenceInterval:
+    return ConfidenceInterval(float("nan"), float("nan"), level)
 
 
 @dataclass(frozen=True, slots=True)
@@ -175,17 +217,34 @@ class FleissKappaResult:
     se : float
         Gwet's (2014) non-null standard error, used for the interval.
     ci : ConfidenceInterval
-        ``value -/+ t(N-1) * se`` (Gwet 2014), clipped to [-1, 1].
+        ``value -/+ t(n-1) * se`` (Gwet 2014), clipped to [-1, 1]; NaN bounds when none can
+        be computed (``warnings`` says why).
     se0 : float
-        Standard error under H0: kappa = 0 (Fleiss, Nee & Landis 1979), used for ``z``.
+        Standard error under H0: kappa = 0 (Fleiss, Nee & Landis 1979), used for ``z``. It
+        assumes the same number of ratings per subject: NaN when that number varies.
     z, p_value : float
-        ``value / se0`` and its two-sided normal p-value.
+        ``value / se0`` and its two-sided normal p-value (NaN with ``se0``).
     p_bar, p_bar_e : float
-        Mean observed agreement and chance agreement (Fleiss 1971's P-bar and P-bar_e).
+        Mean observed agreement and chance agreement (Fleiss 1971's P-bar and P-bar_e;
+        Gwet's p_a and p_e when the number of ratings varies).
     categories : tuple of CategoryKappa
-    n_subjects, n_raters, n_dropped : int
-        Subjects used, ratings per subject, subjects dropped for a missing rating.
+    n_subjects : int
+        Subjects used: every subject with at least one rating (those rated once inform the
+        category proportions only), or the complete subjects with ``missing="complete"``.
+    n_raters : int
+        Raters (columns), i.e. the most ratings a subject can have.
+    n_dropped : int
+        Subjects left out: with no rating at all, or, with ``missing="complete"``, with any
+        missing rating.
     method : str
+    n_ratings : int
+        Ratings used.
+    n_pairable : int
+        Subjects with at least two ratings (the ones whose agreement is observed).
+    unused_categories : tuple of float
+        Declared categories nobody used (their kappa is NaN).
+    warnings : tuple of str
+        Caveats in plain words (a constant rater, few subjects, no interval or null test).
     """
 
     value: float
@@ -201,22 +260,36 @@ class FleissKappaResult:
     n_raters: int
     n_dropped: int
     method: str
+    n_ratings: int = 0
+    n_pairable: int = 0
+    unused_categories: tuple[float, ...] = ()
+    warnings: tuple[str, ...] = ()
 
 
 def fleiss_kappa(
-    ratings: ArrayLike, confidence: float = 0.95, categories: ArrayLike | None = None
+    ratings: ArrayLike,
+    confidence: float = 0.95,
+    categories: Sequence[float] | ArrayLike | None = None,
+    *,
+    missing: str = "available",
 ) -> FleissKappaResult:
-    """Fleiss' kappa for a fixed number of ratings per subject on a nominal scale.
+    """Fleiss' kappa on a nominal scale, for a fixed or a varying number of ratings per subject.
 
     Parameters
     ----------
     ratings : array_like, shape (n_subjects, n_raters)
-        Category codes; the raters need not be the same persons for every subject. Subjects
-        with a missing rating are dropped (Fleiss 1971 needs the same number of ratings per
-        subject) and counted in ``n_dropped``.
+        Category codes, NaN = missing rating; the raters need not be the same persons for
+        every subject.
     confidence : float, default 0.95
-    categories : array_like, optional
-        All possible categories; by default those observed.
+    categories : sequence of float, optional
+        The declared category set; by default the observed values. A declared category
+        nobody used adds nothing to chance agreement and has no category kappa (NaN).
+    missing : {"available", "complete"}, default "available"
+        ``available`` uses every rating: Gwet's (2014, ch. 5) generalisation of Fleiss'
+        kappa to a number of ratings that varies between subjects, which equals Fleiss
+        (1971) when every subject has the same number. ``complete`` keeps only subjects
+        with every rating (listwise deletion, the behaviour before this option), counted in
+        ``n_dropped``. Keyword only.
 
     Returns
     -------
@@ -224,16 +297,22 @@ def fleiss_kappa(
 
     Notes
     -----
-    With n_ij the number of raters putting subject i in category j, N subjects, m ratings
-    each, p_j = sum_i n_ij / (N m), P_i = (sum_j n_ij^2 - m) / (m (m - 1))::
+    With r_ik the number of ratings of subject i in category k and r_i their sum::
 
-        kappa = (P-bar - P-bar_e) / (1 - P-bar_e),  P-bar_e = sum_j p_j^2
-        kappa_j = 1 - sum_i n_ij (m - n_ij) / (N m (m - 1) p_j q_j)
+        p_a = mean over subjects with r_i >= 2 of sum_k r_ik (r_ik - 1) / (r_i (r_i - 1))
+        pi_k = mean over subjects with r_i >= 1 of r_ik / r_i,   p_e = sum_k pi_k^2
+        kappa = (p_a - p_e) / (1 - p_e)
+
+    With r_i = m for every subject this is Fleiss (1971): p_a = P-bar, pi_k = p_j. The
+    category kappa kappa_k is the same coefficient on the table "k against the rest" (Fleiss
+    1971). ``se0`` is the corrected null variance of Fleiss, Nee & Landis (1979), which
+    replaced the one printed in Fleiss (1971) and needs a constant m::
+
         se0 = sqrt(2) / (sum p_j q_j sqrt(N m (m - 1))) * sqrt((sum p_j q_j)^2 - sum p_j q_j (q_j - p_j))
 
-    ``se0`` is the corrected null variance of Fleiss, Nee & Landis (1979), which replaced the
-    one printed in Fleiss (1971); the interval uses Gwet's (2014) non-null variance instead,
-    because a null standard error does not describe the spread of kappa away from zero.
+    The interval uses Gwet's (2014) non-null variance (the linearised per-subject terms, on
+    n - 1 degrees of freedom), because a null standard error does not describe the spread
+    of kappa away from zero. Gwet's irrCAC implements the same estimator (``fleiss``).
 
     References
     ----------
@@ -246,46 +325,81 @@ def fleiss_kappa(
     from scipy import special
 
     level = _checks.confidence(confidence)
+    _checks.choice("missing", missing, MISSING)
     arr = _checks.matrix("ratings", ratings)
-    x, n_dropped = _checks.complete_rows("ratings", arr)
+    if missing == "complete":
+        x, n_dropped = _checks.complete_rows("ratings", arr)
+    else:
+        rated = ~np.isnan(arr).all(axis=1)
+        x, n_dropped = arr[rated], int(arr.shape[0] - rated.sum())
     values, codes = _checks.encode("ratings", x, categories)
     counts = _checks.category_counts(codes, values.size)
-    big_n, m = x.shape
-    p_j = counts.sum(axis=0) / (big_n * m)
+    q = values.size
+    r_i = counts.sum(axis=1)
+    big_n, n_raters = x.shape[0], x.shape[1]
+    pairable = r_i >= 2
+    n_pairable = int(pairable.sum())
+    if n_pairable == 0:
+        raise ValueError("ratings has no subject rated by two or more raters; Fleiss' kappa is undefined")
+    p_j = (counts / r_i[:, None]).mean(axis=0)
     q_j = 1.0 - p_j
-    p_i = (np.square(counts).sum(axis=1) - m) / (m * (m - 1))
-    p_bar = float(p_i.mean())
-    p_bar_e = float(np.square(p_j).sum())
-    if p_bar_e >= 1.0:
+    if float(np.square(p_j).sum()) >= 1.0:
         raise ValueError("every rating is in one category; Fleiss' kappa is undefined")
-    kappa = (p_bar - p_bar_e) / (1.0 - p_bar_e)
+    gwet = _gwet_terms(counts, np.eye(q), "fleiss")
+    p_bar, p_bar_e = gwet.pa, gwet.pe
+    kappa = gwet.value
     pq = p_j * q_j
-    spq = float(pq.sum())
-    se0 = float(
-        np.sqrt(2.0) / (spq * np.sqrt(big_n * m * (m - 1))) * np.sqrt(max(spq**2 - float((pq * (q_j - p_j)).sum()), 0.0))
+    # Category kappas: the same coefficient on "j against the rest", all categories at once.
+    den = np.where(pairable, r_i * (r_i - 1.0), 1.0)[:, None]
+    rest = r_i[:, None] - counts
+    pa_j = ((counts * (counts - 1.0) + rest * (rest - 1.0)) / den)[pairable].mean(axis=0)
+    pe_j = np.square(p_j) + np.square(q_j)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        kappa_j = np.where(pq > 0, (pa_j - pe_j) / (1.0 - pe_j), np.nan)
+    warnings = _checks.constant_column_warnings(x)
+    warnings += _checks.few_subjects_warning("Fleiss' kappa", n_pairable)
+    constant_m = bool((r_i == r_i[0]).all()) and r_i[0] >= 2
+    if constant_m:
+        m = float(r_i[0])
+        spq = float(pq.sum())
+        se0 = float(
+            np.sqrt(2.0) / (spq * np.sqrt(big_n * m * (m - 1))) * np.sqrt(max(spq**2 - float((pq * (q_j - p_j)).sum()), 0.0))
+        )
+        se0_j = float(np.sqrt(2.0 / (big_n * m * (m - 1))))
+        z = kappa / se0 if se0 > 0 else float("nan")
+        p_value = float(2.0 * special.ndtr(-abs(z)))
+    else:
+        se0 = se0_j = z = p_value = float("nan")
+        single = int((r_i == 1).sum())
+        warnings.append(
+            "the number of ratings varies between subjects"
+            + (f" ({single} subject{'s' if single != 1 else ''} rated once inform the category proportions only)" if single else "")
+            + "; the null-hypothesis test of Fleiss, Nee & Landis (1979) needs a constant number and is not given"
+        )
+    per_category = tuple(
+        CategoryKappa(float(value), float(kappa_j[j]), se0_j, float(kappa_j[j]) / se0_j, float(p_j[j]))
+        for j, value in enumerate(values)
     )
-    z = kappa / se0 if se0 > 0 else float("inf")
-    se0_j = float(np.sqrt(2.0 / (big_n * m * (m - 1))))
-    per_category = []
-    for j, value in enumerate(values):
-        if pq[j] > 0:
-            kj = 1.0 - float((counts[:, j] * (m - counts[:, j])).sum()) / (big_n * m * (m - 1) * pq[j])
-        else:
-            kj = float("nan")  # a category nobody used (given in ``categories``) has no kappa
-        per_category.append(CategoryKappa(float(value), kj, se0_j, kj / se0_j, float(p_j[j])))
-    gwet = _gwet_terms(counts, np.eye(values.size), "fleiss")
+    ci, reason = _t_interval(kappa, gwet.se, gwet.n, level), interval_warning(gwet.se, gwet.n)
+    if reason:
+        warnings.append(reason)
+    form = "Fleiss' kappa (Fleiss 1971)" if constant_m else "Fleiss' kappa for varying numbers of ratings per subject (Gwet 2014)"
     return FleissKappaResult(
         value=float(kappa),
         se=gwet.se,
-        ci=_t_interval(float(kappa), gwet.se, big_n, level),
+        ci=ci,
         se0=se0,
         z=float(z),
-        p_value=float(2.0 * special.ndtr(-abs(z))),
+        p_value=p_value,
         p_bar=p_bar,
         p_bar_e=p_bar_e,
-        categories=tuple(per_category),
+        categories=per_category,
         n_subjects=int(big_n),
-        n_raters=int(m),
+        n_raters=int(n_raters),
         n_dropped=n_dropped,
-        method="Fleiss' kappa (Fleiss 1971); null SE of Fleiss, Nee & Landis (1979); interval from Gwet's (2014) variance",
+        method=form + ("; null SE of Fleiss, Nee & Landis (1979)" if constant_m else "") + "; interval from Gwet's (2014) variance",
+        n_ratings=int(r_i.sum()),
+        n_pairable=n_pairable,
+        unused_categories=tuple(float(v) for v in values[p_j == 0]),
+        warnings=tuple(warnings),
     )

@@ -85,3 +85,35 @@ def test_errors() -> None:
         sem(-1.0, 0.5)
     with pytest.raises(ValueError, match="sem_value must be >= 0"):
         mdc95(-0.1)
+
+
+def test_ceiling_item_is_computed_with_a_warning() -> None:
+    # An item everybody scores at its maximum: alpha is defined (pingouin computes it too);
+    # the item has no item-total correlation, and alpha without it is the alpha of the rest.
+    x = random_scores(55, 40, 5)
+    x[:, 3] = 4.0
+    r = cronbach_alpha(x)
+    frame = pd.DataFrame(x)
+    assert r.value == pytest.approx(pg.cronbach_alpha(frame)[0], abs=1e-10)
+    assert r.items[3].corrected_item_total_r is None
+    assert r.items[3].alpha_if_deleted == pytest.approx(pg.cronbach_alpha(frame.drop(columns=3))[0], abs=1e-10)
+    for item in r.items:
+        if item.index != 3:
+            assert item.alpha_if_deleted == pytest.approx(pg.cronbach_alpha(frame.drop(columns=item.index))[0], abs=1e-10)
+    assert r.warnings == (
+        "item 4 has the same score (4) for every respondent: it adds nothing to the total's variance "
+        "and has no item-total correlation; alpha is computed with it",
+    )
+
+
+@pytest.mark.parametrize("seed,n,k", [(56, 200, 12), (57, 50, 3)])
+def test_item_statistics_from_the_covariance_matrix_match_deletion(seed: int, n: int, k: int) -> None:
+    # Offset data (large mean, small spread) guards the covariance shortcut against cancellation.
+    x = random_scores(seed, n, k) + 1000.0
+    r = cronbach_alpha(x)
+    for item in r.items:
+        rest = np.delete(x, item.index, axis=1)
+        expected_r = sps.pearsonr(x[:, item.index], rest.sum(axis=1)).statistic
+        assert item.corrected_item_total_r == pytest.approx(expected_r, abs=1e-9)
+        assert item.alpha_if_deleted == pytest.approx(pg.cronbach_alpha(pd.DataFrame(rest))[0], abs=1e-9)
+    assert any("rests on" in w for w in cronbach_alpha(x[:6]).warnings)

@@ -161,9 +161,10 @@ def test_fleiss_agrees_with_statsmodels_and_irrcac(seed: int, n: int, k: int, q:
 
 
 def test_fleiss_drops_subjects_with_missing_ratings(fleiss_1971: np.ndarray) -> None:
+    # Listwise deletion is now asked for explicitly; the default uses every rating (below).
     x = fleiss_1971.copy()
     x[2, 4] = np.nan
-    r = fleiss_kappa(x)
+    r = fleiss_kappa(x, missing="complete")
     assert (r.n_subjects, r.n_raters, r.n_dropped) == (29, 6, 1)
     assert r.value == pytest.approx(fleiss_kappa(np.delete(fleiss_1971, 2, axis=0)).value, abs=1e-15)
 
@@ -173,3 +174,110 @@ def test_fleiss_errors() -> None:
         fleiss_kappa(np.ones((4, 3)))
     with pytest.raises(ValueError, match="confidence must be in"):
         fleiss_kappa(np.eye(3), confidence=0.0)
+
+
+# --- Fleiss' kappa with missing ratings: Gwet's (2014) generalisation ---
+
+
+def test_fleiss_with_missing_ratings_matches_gwet(krippendorff_4x12: np.ndarray) -> None:
+    # Gwet's irrCAC documentation (cac.raw4raters, the same data as Krippendorff 2011's
+    # 4 coders x 12 units): Fleiss' kappa 0.7611693, SE 0.1530192, pe 0.2387153.
+    r = fleiss_kappa(krippendorff_4x12)
+    assert r.value == pytest.approx(0.7611693, abs=1e-6)
+    assert r.se == pytest.approx(0.1530192, abs=1e-6)
+    assert r.p_bar_e == pytest.approx(0.2387153, abs=1e-6)
+    assert r.p_bar == pytest.approx(0.8181818, abs=1e-6)  # percent agreement, same README
+    # 12 subjects with a rating, 41 ratings, 11 subjects rated at least twice; nothing dropped.
+    assert (r.n_subjects, r.n_ratings, r.n_pairable, r.n_dropped, r.n_raters) == (12, 41, 11, 0, 4)
+    # The null test needs a constant number of ratings per subject: not given, and said so.
+    assert np.isnan(r.se0) and np.isnan(r.z) and np.isnan(r.p_value)
+    assert any("varies between subjects" in w for w in r.warnings)
+    assert "Gwet 2014" in r.method
+    # Listwise deletion keeps 8 of the 12 subjects and gives another value (statsmodels on them).
+    complete = fleiss_kappa(krippendorff_4x12, missing="complete")
+    kept = krippendorff_4x12[~np.isnan(krippendorff_4x12).any(axis=1)]
+    assert (complete.n_subjects, complete.n_dropped) == (8, 4)
+    assert complete.value == pytest.approx(sm_fleiss_kappa(aggregate_raters(kept.astype(int))[0]), abs=1e-12)
+    assert complete.value == pytest.approx(0.6414566, abs=1e-6)
+
+
+@pytest.mark.parametrize("seed,n,k,q,missing", [(24, 40, 4, 3, 0.25), (25, 60, 6, 5, 0.4), (26, 30, 3, 2, 0.2)])
+def test_fleiss_with_missing_ratings_agrees_with_irrcac(seed: int, n: int, k: int, q: int, missing: float) -> None:
+    x = random_ratings(seed, n, k, q, missing)
+    ours = fleiss_kappa(x)
+    theirs = CAC(pd.DataFrame(x), digits=12).fleiss()["est"]
+    assert ours.value == pytest.approx(theirs["coefficient_value"], abs=1e-9)
+    assert ours.se == pytest.approx(theirs["se"], abs=1e-9)
+    assert ours.p_bar == pytest.approx(theirs["pa"], abs=1e-9)
+    assert ours.p_bar_e == pytest.approx(theirs["pe"], abs=1e-9)
+    low, high = theirs["confidence_interval"]
+    assert (ours.ci.low, ours.ci.high) == (pytest.approx(low, abs=1e-9), pytest.approx(high, abs=1e-9))
+    assert ours.n_ratings == int((~np.isnan(x)).sum())
+    # Each category kappa is the same coefficient on the table "category against the rest".
+    for c in ours.categories:
+        binary = np.where(np.isnan(x), np.nan, (x == c.category).astype(float))
+        expected = CAC(pd.DataFrame(binary), categories=[0.0, 1.0], digits=12).fleiss()["est"]["coefficient_value"]
+        assert c.value == pytest.approx(expected, abs=1e-9)
+
+
+def test_fleiss_complete_data_is_unchanged_by_the_missing_option(fleiss_1971: np.ndarray) -> None:
+    a, b = fleiss_kappa(fleiss_1971), fleiss_kappa(fleiss_1971, missing="complete")
+    assert a.value == pytest.approx(b.value, abs=1e-15) and a.se0 == pytest.approx(b.se0, abs=1e-15)
+    assert (a.n_subjects, a.n_ratings, a.n_pairable, a.warnings) == (30, 180, 30, ())
+    with pytest.raises(ValueError, match="missing must be one of"):
+        fleiss_kappa(fleiss_1971, missing="pairwise")
+
+
+# --- constant raters and too few subjects ---
+
+
+def test_cohen_with_one_constant_rater_is_zero_with_a_warning() -> None:
+    x = np.column_stack([np.full(12, 2.0), random_ratings(27, 12, 1, 4)[:, 0]])
+    for weights in ("unweighted", "linear", "quadratic"):
+        r = cohen_kappa(x, weights=weights)
+        expected = cohen_kappa_score(x[:, 0], x[:, 1], weights=None if weights == "unweighted" else weights)
+        assert r.value == pytest.approx(expected, abs=1e-12)
+        assert r.value == pytest.approx(0.0, abs=1e-12)
+        assert any("rater 1 gave the same rating (2)" in w for w in r.warnings)
+        # Kappa is 0 whatever the other rater does: no spread, so no interval and no test.
+        assert r.se == 0.0 and np.isnan(r.ci.low) and np.isnan(r.ci.high)
+        assert np.isnan(r.z) and np.isnan(r.p_value)
+        assert any("no interval" in w for w in r.warnings)
+
+
+def test_fleiss_with_a_constant_rater_is_computed_with_a_warning() -> None:
+    x = random_ratings(28, 30, 4, 3)
+    x[:, 2] = 1.0
+    r = fleiss_kappa(x)
+    counts, _ = aggregate_raters(x.astype(int))
+    assert r.value == pytest.approx(sm_fleiss_kappa(counts), abs=1e-12)
+    assert r.warnings == ("rater 3 gave the same rating (1) every time",)
+
+
+def test_too_few_subjects_give_no_interval() -> None:
+    # Two subjects in perfect agreement: SE 0, and formerly a CI of [1, 1] with no warning.
+    r = cohen_kappa([[1.0, 1.0], [2.0, 2.0]])
+    assert r.value == 1.0 and r.se == 0.0
+    assert np.isnan(r.ci.low) and np.isnan(r.ci.high)
+    assert any("no interval" in w for w in r.warnings)
+    assert any("rests on 2 subjects" in w for w in r.warnings)
+    f = fleiss_kappa([[1.0, 1.0, 1.0], [2.0, 2.0, 2.0]])
+    assert f.value == 1.0 and np.isnan(f.ci.low) and any("no interval" in w for w in f.warnings)
+    # Enough subjects: no such warning.
+    assert not any("rests on" in w for w in cohen_kappa(random_ratings(29, 40, 2, 4)).warnings)
+
+
+def test_fleiss_on_gwets_five_observers_with_missing_ratings() -> None:
+    # Gwet (2014) / irrCAC's raw_5observers: 5 observers, 15 units on a 0-3 scale, only
+    # observer 3 rated every unit, so listwise deletion keeps a single subject and fails.
+    from irrCAC.datasets import raw_5observers
+
+    x = raw_5observers().to_numpy(dtype=float)
+    r = fleiss_kappa(x)
+    theirs = CAC(pd.DataFrame(x), digits=12).fleiss()["est"]
+    assert r.value == pytest.approx(theirs["coefficient_value"], abs=1e-9)
+    assert r.value == pytest.approx(0.45762, abs=5e-6)  # as irrCAC prints it (5 digits)
+    assert r.se == pytest.approx(theirs["se"], abs=1e-9)
+    assert (r.n_subjects, r.n_ratings, r.n_pairable) == (15, int((~np.isnan(x)).sum()), 15)
+    with pytest.raises(ValueError, match="1 complete row"):
+        fleiss_kappa(x, missing="complete")

@@ -95,3 +95,60 @@ def test_negative_and_offset_whole_numbers_match_package() -> None:
         for level in ("nominal", "ordinal", "interval"):
             expected = krippendorff.alpha(reliability_data=x.T, level_of_measurement=level)
             assert krippendorff_alpha(x, level, n_boot=0).value == pytest.approx(expected, abs=1e-9)
+
+
+@pytest.mark.parametrize("level", ["nominal", "ordinal", "interval", "ratio"])
+def test_continuous_scores_with_many_distinct_values_match_package(level: str) -> None:
+    # Every value distinct (the case that needed a units x values table before): 40 units x 4
+    # (the package itself builds that table, so the data stay small).
+    rng = np.random.default_rng(47)
+    x = rng.normal(size=(40, 1)) * 2.0 + rng.normal(size=(40, 4)) + 20.0
+    x[rng.random(x.shape) < 0.15] = np.nan
+    x[5, :] = x[5, 0]  # one unit in full agreement
+    expected = krippendorff.alpha(reliability_data=x.T, level_of_measurement=level)
+    assert krippendorff_alpha(x, level, bootstrap=0).value == pytest.approx(expected, abs=1e-10)
+
+
+def test_bootstrap_keyword_and_its_former_name(krippendorff_4x12: np.ndarray) -> None:
+    a = krippendorff_alpha(krippendorff_4x12, "ordinal", bootstrap=200, seed=3)
+    b = krippendorff_alpha(krippendorff_4x12, "ordinal", n_boot=200, seed=3)
+    assert a.ci == b.ci and a.n_boot == 200
+    none = krippendorff_alpha(krippendorff_4x12, "ordinal", bootstrap=0)
+    assert none.ci is None and none.n_boot == 0
+    assert krippendorff_alpha(krippendorff_4x12).n_boot == 1000  # the default
+    with pytest.raises(ValueError, match="bootstrap must be an integer >= 0"):
+        krippendorff_alpha(krippendorff_4x12, bootstrap=-1)
+
+
+@pytest.mark.parametrize("few_values", [32, 0])
+@pytest.mark.parametrize("level", ["nominal", "ordinal", "interval", "ratio"])
+def test_chunked_bootstrap_equals_one_block(monkeypatch: pytest.MonkeyPatch, level: str, few_values: int) -> None:
+    # The chunk size bounds memory; it must not change the interval. Force tiny chunks and
+    # compare with the same replicates drawn at once and evaluated one by one by the package.
+    # ``few_values`` 0 forces the route taken by continuous scores (no units x values counts).
+    from protolint.stats import krippendorff as module
+
+    monkeypatch.setattr(module, "_FEW_VALUES", few_values)
+    x = random_ratings(48, 60, 3, 5, 0.2) + (0.0 if level != "ratio" else 1.0)
+    whole = krippendorff_alpha(x, level, bootstrap=150, seed=9)
+    monkeypatch.setattr(module, "_CHUNK_CELLS", 1)
+    monkeypatch.setattr(module, "_DELTA_BLOCK", 1)
+    chunked = krippendorff_alpha(x, level, bootstrap=150, seed=9)
+    assert chunked.ci is not None and whole.ci is not None
+    assert chunked.ci.low == pytest.approx(whole.ci.low, abs=1e-12)
+    assert chunked.ci.high == pytest.approx(whole.ci.high, abs=1e-12)
+    # Replicate by replicate: alpha of the resampled units, computed by the package.
+    rng = np.random.default_rng(9)
+    present = ~np.isnan(x)
+    pairable = x[present.sum(axis=1) >= 2]
+    draws = rng.integers(0, pairable.shape[0], size=(150, pairable.shape[0]))
+    reps = [krippendorff.alpha(reliability_data=pairable[d].T, level_of_measurement=level) for d in draws[:20]]
+    ours = module._bootstrap(module._units(x, level), level, 20, 9)
+    assert ours == pytest.approx(np.array(reps), abs=1e-10)
+
+
+def test_few_units_are_warned_and_one_unit_has_no_interval() -> None:
+    small = krippendorff_alpha(np.array([[1.0, 2.0], [3.0, 3.0], [2.0, 2.0]]), "interval")
+    assert any("rests on 3 units" in w for w in small.warnings)
+    single = krippendorff_alpha(np.array([[1.0, 2.0], [3.0, np.nan]]), "interval")
+    assert single.ci is None and any("no bootstrap interval" in w for w in single.warnings)
