@@ -30,8 +30,8 @@ def test_limits_at_two_sd_as_printed_in_1986() -> None:
     # Bland & Altman (1986) print the limits at 2 SD: -79.7 and 75.5 l/min.
     r = bland_altman(WRIGHT, MINI_WRIGHT, z=2.0)
     # The paper computes them from d̄ and s rounded to 0.1 (-2.1 ∓ 2 × 38.8); unrounded they are
-    # -79.66 and 75.42, so the printed values are met within 0.1.
-    assert (r.lower.value, r.upper.value) == pytest.approx((-79.66, 75.42), abs=0.005)
+    # -79.65 and 75.41, so the printed values are met within 0.1.
+    assert (r.lower.value, r.upper.value) == pytest.approx((-79.65, 75.41), abs=0.005)
     assert (r.lower.value, r.upper.value) == pytest.approx((-79.7, 75.5), abs=0.1)
 
 
