@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -86,6 +87,22 @@ class BlandAltmanResult:
                    "noncentral t (Carkeet 2015)")
 
 
+@lru_cache(maxsize=1024)
+def _carkeet_factors(n: int, z: float, tail: float) -> tuple[float, float]:
+    """Quantiles ``tail`` and ``1 − tail`` of the noncentral t (n − 1 df, noncentrality z√n), over √n."""
+    from scipy import stats as sps
+
+    root_n = math.sqrt(n)
+    # Boost's noncentral-t quantile raises a spurious divide-by-zero flag for some small df
+    # (the value it returns is right); the flag is silenced and the result checked instead.
+    with np.errstate(divide="ignore", invalid="ignore"):
+        low = float(sps.nct.ppf(tail, n - 1, z * root_n))
+        high = float(sps.nct.ppf(1.0 - tail, n - 1, z * root_n))
+    if not (math.isfinite(low) and math.isfinite(high)):
+        raise ArithmeticError(f"noncentral t quantiles not finite for n = {n}, z = {z}")
+    return low / root_n, high / root_n
+
+
 def bland_altman(
     measured: ArrayLike,
     reference: ArrayLike,
@@ -131,11 +148,9 @@ def bland_altman(
     se_bias = sd / math.sqrt(n)
     bias_ci = ConfidenceInterval(bias - t_crit * se_bias, bias + t_crit * se_bias, level)
 
-    root_n = math.sqrt(n)
     if sd > 0:
         # Quantiles of the noncentral t with noncentrality z√n (Carkeet 2015); factors multiply s.
-        near = float(sps.nct.ppf(tail, df, z * root_n)) / root_n
-        far = float(sps.nct.ppf(1.0 - tail, df, z * root_n)) / root_n
+        near, far = _carkeet_factors(n, z, tail)
     else:
         near = far = z
     se_1986 = math.sqrt(3.0 * sd * sd / n)
