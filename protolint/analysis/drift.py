@@ -510,13 +510,15 @@ class GroupCheck:
     mean_deviation: float | None
     first_signal: date | None
     direction: str | None
+    left_out: int = 0
+    """Raters left out because their own chart signalled."""
     points: tuple[tuple[date, float], ...] = field(repr=False, default=())
 
     def to_json(self) -> dict[str, Any]:
         out: dict[str, Any] = {"instrument": self.instrument}
         if self.site is not None:
             out["site"] = self.site
-        out.update({"raters": self.raters, "periods": self.periods, "mean_deviation": self.mean_deviation,
+        out.update({"raters": self.raters, "left_out_with_own_signal": self.left_out, "periods": self.periods, "mean_deviation": self.mean_deviation,
                     "first_signal": None if self.first_signal is None else self.first_signal.isoformat(),
                     "direction": self.direction})
         return out
@@ -550,12 +552,13 @@ class ChartSummary:
                 "arl_shift": {f"{s:g}": arl for s, arl in self.shifted}, "arl_method": self.arl_method,
                 "units": "monitoring rounds; shifts in SD of a round's mean deviation"}
 
-    def plain_words(self, interval_weeks: int | None) -> str:
+    def plain_words(self, interval_weeks: float | None, basis: str = "") -> str:
         one_sd = dict(self.shifted).get(1.0)
         if interval_weeks:
             years = self.in_control * interval_weeks / WEEKS_PER_YEAR
-            text = (f"With a round every {interval_weeks} week{'s' if interval_weeks != 1 else ''}, a stable rater is "
-                    f"falsely flagged about once in {years:.0f} years ({self.in_control:.0f} rounds)")
+            every = f"{interval_weeks:.3g} week{'s' if interval_weeks != 1 else ''}"
+            text = (f"With a round every {every}{' ' + basis if basis else ''}, a stable rater is falsely flagged "
+                    f"about once in {years:.0f} years ({self.in_control:.0f} rounds)")
         else:
             text = f"A stable rater is falsely flagged about once in {self.in_control:.0f} rounds"
         if one_sd is not None:
@@ -586,6 +589,20 @@ class DriftReport:
     notes: tuple[str, ...]
     within_days: int
     ignored_after_as_of: int
+    round_spacing_days: dict[str, float] = field(default_factory=dict)
+    """instrument -> median days between a rater's rounds in the data."""
+
+    def plain_words(self, rule: PoolRules) -> str:
+        """The chart's run lengths in calendar time: at the data's own round spacing when there
+        are rounds, else at the pool's interval."""
+        observed = [self.round_spacing_days[i] for i in rule.instruments if i in self.round_spacing_days]
+        if observed:
+            weeks = max(observed) / 7
+            text = self.chart.plain_words(weeks, "as in the data")
+            if rule.interval_weeks and abs(weeks - rule.interval_weeks) > 0.5:
+                text += f" (The plan's interval is {rule.interval_weeks} weeks.)"
+            return text
+        return self.chart.plain_words(rule.interval_weeks, "as planned" if rule.source == "plan" else "")
 
     def counts(self) -> dict[str, int]:
         out = {code: 0 for code in STATUS_ORDER}
@@ -612,6 +629,7 @@ class DriftReport:
             "pools": [rule.to_json() for rule in self.rules],
             "criterion": self.rules[0].criterion.to_json() if len(self.rules) == 1 else None,
             "due_within_days": self.within_days, "min_cases": MIN_CASES,
+            "round_spacing_days": dict(self.round_spacing_days),
         }
         if chart.method == "cusum":
             settings.update({"k": chart.k, "h": chart.h})
@@ -947,7 +965,11 @@ def analyse(data: RatingData, loaded: LoadedPlan | None, options: Options) -> Dr
         due.extend(_due_items(result, entry, rule, plan, as_of, options.within_days, failed_rounds))
 
     results.sort(key=lambda r: (STATUS_ORDER.index(r.status), r.rater, r.instrument))
-    group_checks, site_checks = _group_checks(groups, round_points, rules, settings)
+    spacing = round_spacing(groups)
+    # A rater who drifts on their own would pull the group along; the shared-shift check is
+    # about the others, so raters with their own signal are left out of it (and counted).
+    flagged = {(r.rater, r.instrument) for r in results if r.first_signal is not None}
+    group_checks, site_checks = _group_checks(groups, round_points, spacing, settings, flagged)
     roster_missing: tuple[str, ...] = ()
     not_on_roster: tuple[str, ...] = ()
     if plan is not None:
@@ -964,7 +986,7 @@ def analyse(data: RatingData, loaded: LoadedPlan | None, options: Options) -> Dr
         study=plan.study.id if plan else None, rules=tuple(rules.values()), chart=chart_summary, scale_sd=scale_sd,
         raters=tuple(results), group=group_checks, sites=site_checks, due=tuple(due),
         roster_missing=roster_missing, not_on_roster=not_on_roster, notes=tuple(notes),
-        within_days=options.within_days, ignored_after_as_of=ignored)
+        within_days=options.within_days, ignored_after_as_of=ignored, round_spacing_days=spacing)
 
 
 def _last_pass_day(attempts: Sequence[Agreement]) -> date | None:
@@ -1013,8 +1035,10 @@ def _due_items(result: RaterResult, entry: _RaterInput, rule: PoolRules, plan: P
 
 def _missed_rounds(result: RaterResult, entry: _RaterInput, rule: PoolRules, plan: Plan | None, as_of: date,
                    certified: date | None) -> list[DueItem]:
-    start = certified or (min(r.day for r in entry.certification) if entry.certification else None)
-    if start is None or not rule.interval_weeks:
+    # Only a rater in good standing is expected at rounds; a failed or missing certification
+    # is already on the due list.
+    start = certified
+    if start is None or result.status in ("failed-certification", "not-certified") or not rule.interval_weeks:
         return []
     days = sorted({r.day for r in entry.monitoring})
     out: list[DueItem] = []
@@ -1037,20 +1061,40 @@ def _missed_rounds(result: RaterResult, entry: _RaterInput, rule: PoolRules, pla
     return out
 
 
+def round_spacing(groups: dict[tuple[str, str], _RaterInput]) -> dict[str, float]:
+    """Median days between a rater's consecutive monitoring rounds, per instrument (the data's
+    own rhythm, which may be closer than the plan's minimum interval)."""
+    gaps: dict[str, list[int]] = defaultdict(list)
+    for (_, instrument), entry in groups.items():
+        days = sorted({r.day for r in entry.monitoring})
+        gaps[instrument].extend((b - a).days for a, b in zip(days, days[1:]))
+    out = {}
+    for instrument, values in gaps.items():
+        if values:
+            values.sort()
+            middle = len(values) // 2
+            out[instrument] = float(values[middle] if len(values) % 2 else (values[middle - 1] + values[middle]) / 2)
+    return out
+
+
 def _group_checks(groups: dict[tuple[str, str], _RaterInput], points: dict[tuple[str, str], list[tuple[date, float]]],
-                  rules: dict[str, PoolRules], settings: ChartSettings) -> tuple[tuple[GroupCheck, ...], tuple[GroupCheck, ...]]:
+                  spacing: dict[str, float], settings: ChartSettings,
+                  flagged: set[tuple[str, str]]) -> tuple[tuple[GroupCheck, ...], tuple[GroupCheck, ...]]:
+    """The round points of raters without their own signal, binned into periods of the data's
+    median round spacing."""
     from protolint.stats import drift as charts
 
-    def check(instrument: str, site: str | None, keys: list[tuple[str, str]]) -> GroupCheck:
+    def check(instrument: str, site: str | None, every: list[tuple[str, str]]) -> GroupCheck:
+        keys = [key for key in every if key not in flagged]
+        left_out = len(every) - len(keys)
         series = [p for key in keys for p in points[key]]
-        interval = next((rules[groups[k].pool].interval_weeks for k in keys if rules[groups[k].pool].interval_weeks),
-                        DEFAULT_INTERVAL_WEEKS)
         if not series:
-            return GroupCheck(instrument, site, len(keys), 0, None, None, None)
+            return GroupCheck(instrument, site, len(keys), 0, None, None, None, left_out)
+        period_days = spacing.get(instrument) or 7 * DEFAULT_INTERVAL_WEEKS
         origin = min(day for day, _ in series)
         periods: dict[int, list[tuple[date, float]]] = defaultdict(list)
         for day, value in series:
-            periods[(day - origin).days // (7 * interval)].append((day, value))
+            periods[int((day - origin).days // period_days)].append((day, value))
         ordered = [periods[i] for i in sorted(periods)]
         z = [sum(v for _, v in group) / math.sqrt(len(group)) for group in ordered]
         ends = [max(day for day, _ in group) for group in ordered]
@@ -1062,7 +1106,7 @@ def _group_checks(groups: dict[tuple[str, str], _RaterInput], points: dict[tuple
         return GroupCheck(instrument, site, len(keys), len(ordered),
                           sum(deviations) / len(deviations) if deviations else None,
                           None if signal.index is None else ends[signal.index], signal.direction,
-                          tuple(zip(ends, z)))
+                          left_out, tuple(zip(ends, z)))
 
     instruments = sorted({key[1] for key in groups})
     whole = tuple(check(i, None, [k for k in groups if k[1] == i]) for i in instruments)
