@@ -39,7 +39,7 @@ import math
 from collections import defaultdict
 from dataclasses import dataclass, field
 from datetime import date, timedelta
-from typing import TYPE_CHECKING, Any, Iterable, Sequence
+from typing import TYPE_CHECKING, Any, Iterable, NamedTuple, Sequence
 
 from protolint import CAUTION
 from protolint.errors import LocatedError, ProtolintError
@@ -84,12 +84,13 @@ DEFAULT_WITHIN_DAYS = 90
 
 @dataclass(frozen=True)
 class RawTable:
-    """A delimited file as text: the header and every non-blank row with its line number."""
+    """A delimited file as text: the header (lower case) and every non-blank row, as stripped
+    cells padded to the header's width, with its line number."""
 
     file: str
     sha256: str
     header: tuple[str, ...]
-    rows: tuple[tuple[int, dict[str, str]], ...]
+    rows: tuple[tuple[int, list[str]], ...]
 
 
 def read_rows(file: str) -> RawTable:
@@ -113,19 +114,23 @@ def read_rows(file: str) -> RawTable:
     tab = file.lower().endswith(".tsv") or ("\t" in first_line and "," not in first_line)
     reader = csv.reader(io.StringIO(text, newline=""), delimiter="\t" if tab else ",", strict=True)
     header: tuple[str, ...] | None = None
-    rows: list[tuple[int, dict[str, str]]] = []
+    rows: list[tuple[int, list[str]]] = []
+    width = 0
     try:
         for cells in reader:
-            if not cells or not any(cell.strip() for cell in cells):
+            cells = [cell.strip() for cell in cells]
+            if not any(cells):
                 continue
             if header is None:
-                header = tuple(cell.strip().lower() for cell in cells)
+                header = tuple(cell.lower() for cell in cells)
+                width = len(header)
                 continue
-            if len(cells) > len(header):
-                raise LocatedError(file, reader.line_num, None,
-                                   f"{len(cells)} cells, but the header has {len(header)} columns")
-            rows.append((reader.line_num, {name: (cells[i].strip() if i < len(cells) else "")
-                                           for i, name in enumerate(header)}))
+            if len(cells) != width:
+                if len(cells) > width:
+                    raise LocatedError(file, reader.line_num, None,
+                                       f"{len(cells)} cells, but the header has {width} columns")
+                cells += [""] * (width - len(cells))
+            rows.append((reader.line_num, cells))
     except csv.Error as error:
         raise LocatedError(file, reader.line_num, None, f"malformed {'TSV' if tab else 'CSV'}: {error}") from None
     if header is None:
@@ -133,9 +138,8 @@ def read_rows(file: str) -> RawTable:
     return RawTable(file, hashlib.sha256(raw).hexdigest(), header, tuple(rows))
 
 
-@dataclass(frozen=True)
-class Rating:
-    """One rating of a reference case."""
+class Rating(NamedTuple):
+    """One rating of a reference case (a named tuple: a trial's data has 10^5 of them)."""
 
     line: int
     day: date
@@ -146,10 +150,8 @@ class Rating:
     reference: float
     kind: str
     instrument: str | None
-
-    @property
-    def deviation(self) -> float:
-        return self.score - self.reference
+    deviation: float
+    """``score − reference``."""
 
 
 @dataclass(frozen=True)
@@ -188,21 +190,29 @@ def parse_ratings(table: RawTable) -> RatingData:
     ratings: list[Rating] = []
     references: dict[tuple[str | None, str], tuple[float, int]] = {}
     has_instrument = "instrument" in table.header
+    at = {name: table.header.index(name) for name in REQUIRED_COLUMNS + OPTIONAL_COLUMNS if name in table.header}
+    i_date, i_site, i_rater, i_case, i_score, i_ref = (at[name] for name in REQUIRED_COLUMNS)
+    i_kind, i_instrument = at.get("kind"), at.get("instrument")
+    parsed_days: dict[str, date] = {}
     for line, cells in table.rows:
-        for name in ("date", "site", "rater", "case", "score", "reference"):
-            if not cells[name]:
+        for name in REQUIRED_COLUMNS:
+            if not cells[at[name]]:
                 raise LocatedError(file, line, None, f"{name} is empty")
-        try:
-            day = date.fromisoformat(cells["date"])
-        except ValueError:
-            raise LocatedError(file, line, None, f"date: {cells['date']!r} is not an ISO 8601 date (YYYY-MM-DD)") from None
-        kind = (cells.get("kind") or "monitoring").lower()
+        text_day = cells[i_date]
+        day = parsed_days.get(text_day)
+        if day is None:
+            try:
+                day = parsed_days[text_day] = date.fromisoformat(text_day)
+            except ValueError:
+                raise LocatedError(file, line, None, f"date: {text_day!r} is not an ISO 8601 date (YYYY-MM-DD)") from None
+        kind = "monitoring" if i_kind is None or not cells[i_kind] else cells[i_kind].lower()
         if kind not in KINDS:
-            raise LocatedError(file, line, None, f"kind: {cells['kind']!r} is not one of {', '.join(KINDS)}")
-        instrument = cells.get("instrument") or None
-        rating = Rating(line, day, cells["site"], cells["rater"], cells["case"],
-                        _number(file, line, "score", cells["score"]),
-                        _number(file, line, "reference", cells["reference"]), kind, instrument)
+            raise LocatedError(file, line, None, f"kind: {cells[i_kind]!r} is not one of {', '.join(KINDS)}")
+        instrument = (cells[i_instrument] or None) if i_instrument is not None else None
+        score = _number(file, line, "score", cells[i_score])
+        reference = _number(file, line, "reference", cells[i_ref])
+        rating = Rating(line, day, cells[i_site], cells[i_rater], cells[i_case], score, reference, kind,
+                        instrument, score - reference)
         key = (instrument, rating.case)
         known = references.get(key)
         if known is None:

@@ -123,7 +123,7 @@ def bland_altman(
     z : float, optional
         The multiplier itself (e.g. 1.96 or 2, as printed in older papers); overrides ``limits``.
     """
-    from scipy import stats as sps
+    from scipy import special
 
     level = _checks.confidence(confidence)
     a = np.asarray(measured, dtype=float).ravel()
@@ -137,14 +137,14 @@ def bland_altman(
         raise ValueError(f"Bland-Altman limits need at least 3 complete pairs, got {n}")
     if z is None:
         coverage = _checks.probability_open("limits", limits)
-        z = float(sps.norm.ppf((1.0 + coverage) / 2.0))
+        z = float(special.ndtri((1.0 + coverage) / 2.0))
     else:
         z = _checks.positive("z", z)
     bias = float(diff.mean())
     sd = float(diff.std(ddof=1))
     df = n - 1
     tail = (1.0 - level) / 2.0
-    t_crit = float(sps.t.ppf(1.0 - tail, df))
+    t_crit = float(special.stdtrit(df, 1.0 - tail))
     se_bias = sd / math.sqrt(n)
     bias_ci = ConfidenceInterval(bias - t_crit * se_bias, bias + t_crit * se_bias, level)
 
