@@ -201,7 +201,12 @@ def command(data: str, plan: str | None, pool: str | None, as_of: date | None, f
     if fmt in ("html", "pdf"):
         from protolint.render.drift_report import render_drift
 
-        document = render_drift(report, fmt, loaded.source.text if loaded else None)
+        from pathlib import Path
+
+        plan_model = loaded.plan if loaded else None
+        document = render_drift(report, fmt, Path(data).read_text(encoding="utf-8-sig"),
+                                study_title=plan_model.study.title if plan_model else None,
+                                sponsor=plan_model.study.sponsor if plan_model else None)
         target = output or default_output(data, fmt)
         if isinstance(document, bytes):
             if target is None:
