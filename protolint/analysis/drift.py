@@ -207,7 +207,7 @@ def parse_ratings(table: RawTable) -> RatingData:
                 raise LocatedError(file, line, None, f"date: {text_day!r} is not an ISO 8601 date (YYYY-MM-DD)") from None
         kind = "monitoring" if i_kind is None or not cells[i_kind] else cells[i_kind].lower()
         if kind not in KINDS:
-            raise LocatedError(file, line, None, f"kind: {cells[i_kind]!r} is not one of {', '.join(KINDS)}")
+            raise LocatedError(file, line, None, f"kind: {kind!r} is not one of {', '.join(KINDS)}")
         instrument = (cells[i_instrument] or None) if i_instrument is not None else None
         score = _number(file, line, "score", cells[i_score])
         reference = _number(file, line, "reference", cells[i_ref])
@@ -224,9 +224,9 @@ def parse_ratings(table: RawTable) -> RatingData:
     first_monitoring: dict[tuple[str, str | None], date] = {}
     for rating in ratings:
         if rating.kind == "monitoring":
-            key = (rating.rater, rating.instrument)
-            if key not in first_monitoring or rating.day < first_monitoring[key]:
-                first_monitoring[key] = rating.day
+            who = (rating.rater, rating.instrument)
+            if who not in first_monitoring or rating.day < first_monitoring[who]:
+                first_monitoring[who] = rating.day
     for rating in ratings:
         begins = first_monitoring.get((rating.rater, rating.instrument))
         if rating.kind == "certification" and begins is not None and rating.day > begins:
@@ -793,15 +793,14 @@ def _assign(data: RatingData, plan: Plan | None, options: Options) -> dict[tuple
                              f"(pools: {', '.join(pools) or 'none'})")
     by_instrument: dict[str, list[str]] = defaultdict(list)
     for pool in pools.values():
-        for instrument in pool.instruments:
-            by_instrument[instrument].append(pool.id)
+        for rated in pool.instruments:
+            by_instrument[rated].append(pool.id)
     groups: dict[tuple[str, str], _RaterInput] = {}
     for rating in data.ratings:
         pool_id = _pool_of(rating, plan, roster, pools, by_instrument, options, data.file)
         if pool_id is None:
             continue
-        instrument = rating.instrument
-        if instrument is None:
+        if rating.instrument is None:
             if plan is None:
                 instrument = "-"
             else:
@@ -810,7 +809,9 @@ def _assign(data: RatingData, plan: Plan | None, options: Options) -> dict[tuple
                     raise LocatedError(data.file, rating.line, None, f"instrument is empty and pool {pool_id!r} rates "
                                        f"{', '.join(choices)}; add an instrument column")
                 instrument = choices[0]
-        elif plan is not None and instrument not in pools[pool_id].instruments:
+        else:
+            instrument = rating.instrument
+        if plan is not None and instrument not in pools[pool_id].instruments:
             raise LocatedError(data.file, rating.line, None, f"instrument {instrument!r} is not rated by pool "
                                f"{pool_id!r} ({', '.join(pools[pool_id].instruments)})")
         key = (rating.rater, instrument)
@@ -915,16 +916,19 @@ def analyse(data: RatingData, loaded: LoadedPlan | None, options: Options) -> Dr
         rounds_raw = _by_date(entry.monitoring)
         z = [sum(r.deviation for r in group) / len(group) * math.sqrt(len(group)) / sd for group in rounds_raw]
         round_points[key] = [(group[0].day, value) for group, value in zip(rounds_raw, z)]
-        if settings.method == "cusum":
-            path = charts.cusum(z, settings.k or 0.0, settings.h or 1.0) if z else None
-            stat = [max(u, l) for u, l in zip(path.upper, path.lower)] if path else []
-        else:
-            path = charts.ewma(z, settings.lam or 0.2, settings.L or 3.0) if z else None
-            stat = list(path.statistic) if path else []
-        signal_day = direction = None
-        if path is not None and path.signal.index is not None:
-            signal_day = rounds_raw[path.signal.index][0].day
-            direction = path.signal.direction
+        stat: list[float] = []
+        signal = None
+        if z and settings.method == "cusum":
+            cusum_path = charts.cusum(z, settings.k or 0.0, settings.h or 1.0)
+            stat, signal = [max(u, l) for u, l in zip(cusum_path.upper, cusum_path.lower)], cusum_path.signal
+        elif z:
+            ewma_path = charts.ewma(z, settings.lam or 0.2, settings.L or 3.0)
+            stat, signal = list(ewma_path.statistic), ewma_path.signal
+        signal_day: date | None = None
+        direction: str | None = None
+        if signal is not None and signal.index is not None:
+            signal_day = rounds_raw[signal.index][0].day
+            direction = signal.direction
         rounds = []
         for group, value, chart_value in zip(rounds_raw, z, stat):
             over = reason = None

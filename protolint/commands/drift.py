@@ -39,7 +39,7 @@ def render_text(report: DriftReport) -> str:
     width = 100
     lines = [f"Rater drift as of {report.as_of}" + (f" — {report.study}" if report.study else ""),
              f"Data {report.data_file} (SHA-256 {report.data_sha256[:16]}…)"
-             + (f"; plan {report.plan_file} (SHA-256 {report.plan_sha256[:16]}…)" if report.plan_file else "; no plan"),
+             + (f"; plan {report.plan_file} (SHA-256 {(report.plan_sha256 or '')[:16]}…)" if report.plan_file else "; no plan"),
              ""]
     counts = report.counts()
     lines.append("Raters: " + ", ".join(f"{n} {code}" for code, n in counts.items() if n) + f" ({len(report.raters)} in all)")
