@@ -31,10 +31,8 @@ Conventions (stated so that the report can be checked by hand):
 
 from __future__ import annotations
 
-import csv
 import dataclasses
 import hashlib
-import io
 import math
 from collections import defaultdict
 from dataclasses import dataclass, field
@@ -50,6 +48,7 @@ from protolint.plan.timeline import add_months
 from protolint.render.schedule import CENTRAL, MonitoringRound, monitoring_rounds
 
 if TYPE_CHECKING:
+    from protolint.data.roles import ReadOptions
     from protolint.plan import LoadedPlan
     from protolint.plan.model import Plan, RaterPool
 
@@ -65,6 +64,8 @@ STATUS_ORDER = ("failed-certification", "not-certified", "drifting", "insufficie
 
 KINDS = ("certification", "recertification", "monitoring")
 REQUIRED_COLUMNS = ("date", "site", "rater", "case", "score", "reference")
+ROLES = REQUIRED_COLUMNS
+"""The shared reader's column roles drift uses (``--date``, ``--site``, … map other names)."""
 OPTIONAL_COLUMNS = ("kind", "instrument")
 SHIFTS = (0.5, 1.0, 2.0)
 MIN_CASES = 3
@@ -93,49 +94,25 @@ class RawTable:
     rows: tuple[tuple[int, list[str]], ...]
 
 
-def read_rows(file: str) -> RawTable:
-    """Read a CSV or TSV file (tab when the name ends in ``.tsv`` or the header has tabs and
-    no commas). Only reading happens here; every check of the values is in :func:`parse_ratings`.
-    """
+def read_rows(file: str, read_options: ReadOptions | None = None) -> RawTable:
+    """Read the data through the shared reader (CSV, TSV, .xlsx, Dataset-JSON, SAS transport;
+    column roles, presets and filters from ``read_options``) into rows of text with their row
+    numbers. Only reading happens here; every check of the values is in :func:`parse_ratings`."""
+    from protolint.data.records import read_role_rows
+
     try:
         with open(file, "rb") as stream:
-            raw = stream.read()
+            digest = hashlib.sha256(stream.read()).hexdigest()
     except FileNotFoundError:
         raise LocatedError(file, None, None, "no such file") from None
     except IsADirectoryError:
-        raise LocatedError(file, None, None, "is a folder, expected a CSV or TSV file") from None
+        raise LocatedError(file, None, None, "is a folder, expected a data file") from None
     except OSError as error:
         raise LocatedError(file, None, None, f"cannot read: {error.strerror}") from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as error:
-        raise LocatedError(file, None, None, f"not UTF-8 text ({error.reason} at byte {error.start})") from None
-    first_line = text.split("\n", 1)[0]
-    tab = file.lower().endswith(".tsv") or ("\t" in first_line and "," not in first_line)
-    reader = csv.reader(io.StringIO(text, newline=""), delimiter="\t" if tab else ",", strict=True)
-    header: tuple[str, ...] | None = None
-    rows: list[tuple[int, list[str]]] = []
-    width = 0
-    try:
-        for cells in reader:
-            cells = [cell.strip() for cell in cells]
-            if not any(cells):
-                continue
-            if header is None:
-                header = tuple(cell.lower() for cell in cells)
-                width = len(header)
-                continue
-            if len(cells) != width:
-                if len(cells) > width:
-                    raise LocatedError(file, reader.line_num, None,
-                                       f"{len(cells)} cells, but the header has {width} columns")
-                cells += [""] * (width - len(cells))
-            rows.append((reader.line_num, cells))
-    except csv.Error as error:
-        raise LocatedError(file, reader.line_num, None, f"malformed {'TSV' if tab else 'CSV'}: {error}") from None
-    if header is None:
-        raise LocatedError(file, None, None, "empty file: expected a header row and ratings")
-    return RawTable(file, hashlib.sha256(raw).hexdigest(), header, tuple(rows))
+    rows, _ = read_role_rows(file, read_options, ROLES, REQUIRED_COLUMNS, keep=OPTIONAL_COLUMNS,
+                             skip_missing_score=False)
+    (_, header), body = rows[0], rows[1:]
+    return RawTable(file, digest, tuple(name.lower() for name in header), tuple(body))
 
 
 class Rating(NamedTuple):
@@ -236,9 +213,9 @@ def parse_ratings(table: RawTable) -> RatingData:
     return RatingData(file, table.sha256, tuple(ratings), has_instrument)
 
 
-def read_ratings(file: str) -> RatingData:
+def read_ratings(file: str, read_options: ReadOptions | None = None) -> RatingData:
     """Read and validate a ratings file (the one entry point the command uses)."""
-    return parse_ratings(read_rows(file))
+    return parse_ratings(read_rows(file, read_options))
 
 
 # ----------------------------------------------------------------------------- settings

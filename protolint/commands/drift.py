@@ -11,10 +11,12 @@ import click
 
 from protolint import CAUTION
 from protolint.commands._shared import OneLineCommand, emit, to_json
+from protolint.data.options import reader_options
 from protolint.errors import ProtolintError
 
 if TYPE_CHECKING:
     from protolint.analysis.drift import DriftReport
+    from protolint.data.roles import ReadOptions
 
 FORMATS = ("text", "json", "html", "pdf")
 
@@ -161,15 +163,18 @@ def default_output(data: str, fmt: str) -> str | None:
 @click.option("--fail-on", type=click.Choice(("error", "warning", "never")), default="error", show_default=True,
               help="error: exit 1 when a rater failed, is not certified, drifts or is overdue; warning: also for "
                    "marginal passes, too little data, roster gaps and anything due soon.")
+@reader_options(roles=("date", "site", "rater", "case", "score", "reference"))
 def command(data: str, plan: str | None, pool: str | None, as_of: date | None, fmt: str, output: str | None,
             min_icc: float | None, max_deviation: float | None, interval_weeks: int | None,
             recertify_months: int | None, scale: str | None, scale_sd: float | None, method: str, k: float,
-            h: float | None, lam: float, L: float | None, arl0: float, within_days: int, fail_on: str) -> None:
+            h: float | None, lam: float, L: float | None, arl0: float, within_days: int, fail_on: str,
+            read_options: ReadOptions) -> None:
     """Judge certification and monitoring ratings of reference cases against the plan.
 
-    DATA is CSV or TSV, one row per rating of a reference case, with columns date (YYYY-MM-DD),
-    site, rater, case, score, reference, and optionally kind (certification, recertification or
-    monitoring; default monitoring) and instrument.
+    DATA has one row per rating of a reference case, with columns date (YYYY-MM-DD), site,
+    rater, case, score, reference (other names mapped with --date, --rater, ...), and optionally
+    kind (certification, recertification or monitoring; default monitoring) and instrument.
+    CSV, TSV, .xlsx, Dataset-JSON and SAS transport files are read.
 
     Without --plan the options give the rules; their defaults are an ICC(A,1) of at least 0.80,
     a round every 4 weeks, recertification every 12 months, a CUSUM with k = 0.5 and h solved
@@ -193,7 +198,7 @@ def command(data: str, plan: str | None, pool: str | None, as_of: date | None, f
         from protolint.plan import read_plan_file
 
         loaded = read_plan_file(plan)
-    ratings = read_ratings(data)
+    ratings = read_ratings(data, read_options)
     options = Options(pool=pool, as_of=as_of, min_icc=min_icc, max_deviation=max_deviation,
                       interval_weeks=interval_weeks, recertify_months=recertify_months, scale=scale,
                       scale_sd=scale_sd, method=method, k=k, h=h, lam=lam, L=L, arl0=arl0, within_days=within_days)

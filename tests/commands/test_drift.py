@@ -86,7 +86,7 @@ def test_ewma_option_and_limits_in_the_output(tmp_path: Path) -> None:
 
 
 @pytest.mark.parametrize("body,line,message", [
-    ("date,site,rater,case,score\n2026-01-01,S,A,C,1\n", 1, "missing column reference"),
+    ("date,site,rater,case,score\n2026-01-01,S,A,C,1\n", 1, "no column for the reference"),
     (HEADER + "2026-13-01,S,A,C1,1,1,certification\n", 2, "not an ISO 8601 date"),
     (HEADER + "2026-01-01,S,A,C1,x,1,certification\n", 2, "score: 'x' is not a number"),
     (HEADER + "2026-01-01,S,A,C1,1,1,certification\n2026-01-01,S,B,C1,1,2,certification\n", 3, "reference 2 differs"),
@@ -113,6 +113,15 @@ def test_tsv_is_read(tmp_path: Path) -> None:
     code, out, err = run(str(tsv), "--format", "json", "--fail-on", "never")
     assert code == 0, err
     assert len(json.loads(out)["raters"]) == 2
+
+
+def test_columns_with_other_names_are_mapped_by_role(tmp_path: Path) -> None:
+    text = stable_file(tmp_path).read_text(encoding="utf-8").replace("rater,case", "assessor,case", 1)
+    data = tmp_path / "renamed.csv"
+    data.write_text(text, encoding="utf-8")
+    code, out, err = run(str(data), "--rater", "assessor", "--format", "json", "--fail-on", "never")
+    assert code == 0, err
+    assert sorted(r["rater"] for r in json.loads(out)["raters"]) == ["A", "B"]
 
 
 def test_unknown_pool_and_bad_option_are_one_line_errors(tmp_path: Path) -> None:
