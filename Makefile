@@ -31,6 +31,9 @@ demo: $(STAMP)
 	$(PY) demo_protocol/export_qs.py $(OUT)/demo-qs-hlsc8.ndjson
 	$(VENV)/bin/protolint consistency $(OUT)/demo-qs-hlsc8.ndjson --columns sdtm-qs --where 'QSTESTCD!=HLSC8TOT'
 	$(VENV)/bin/protolint design demo_protocol/pilot/pilot_hlsc8_simulated.csv --plan $(DEMO) --cost-participant 4000 --cost-rating 150 --cost-occasion 350 --format pdf --output $(OUT)/demo-design.pdf
+	$(VENV)/bin/protolint drift demo_protocol/data/drift_hlsc8.csv --plan $(DEMO) --fail-on never
+	$(VENV)/bin/protolint drift demo_protocol/data/drift_hlsc8.csv --plan $(DEMO) --fail-on never --format json --output $(OUT)/demo-drift.json
+	$(VENV)/bin/protolint drift demo_protocol/data/drift_hlsc8.csv --plan $(DEMO) --fail-on never --format pdf --output $(OUT)/demo-drift.pdf
 	$(VENV)/bin/protolint render manual $(DEMO) --output $(OUT)/demo-manual.pdf
 	$(VENV)/bin/protolint render checklist $(DEMO) --output $(OUT)/demo-checklist.pdf
 	$(VENV)/bin/protolint render binder $(DEMO) --output $(OUT)/demo-binder.pdf

@@ -27,6 +27,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "render": ("protolint.commands.render", "Render controlled documents from a plan."),
     "calendar": ("protolint.commands.calendar", "Training, certification and monitoring dates as iCalendar."),
     "design": ("protolint.commands.design", "Variance components and the cheapest raters x occasions x N design."),
+    "drift": ("protolint.commands.drift", "Rater certification, drift and the recertification due list."),
 }
 
 
