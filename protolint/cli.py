@@ -26,6 +26,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "render": ("protolint.commands.render", "Render controlled documents from a plan."),
     "calendar": ("protolint.commands.calendar", "Training, certification and monitoring dates as iCalendar."),
     "design": ("protolint.commands.design", "Variance components and the cheapest raters x occasions x N design."),
+    "diff": ("protolint.commands.diff", "What changed between two versions of a plan, and in its findings."),
 }
 
 
