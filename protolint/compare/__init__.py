@@ -159,8 +159,8 @@ def _change(kind: str, level: Any, old: LoadedSource, new: LoadedSource) -> Chan
     new_value = None if kind == "removed" else _plain(level.t2)
     old_pointer = pointer_from_path(old_path) if old_path is not None else None
     new_pointer = pointer_from_path(new_path) if new_path is not None else None
-    data, path = (new.data, new_path) if new_path is not None else (old.data, old_path)
-    assert path is not None  # one side always exists
+    # One side always exists: an added value has a new path, any other change an old one.
+    data, path = (new.data, new_path) if new_path is not None else (old.data, old_path or ())
     return Change(
         kind=kind,
         pointer=new_pointer if new_pointer is not None else str(old_pointer),
@@ -226,7 +226,7 @@ def _deepdiff() -> Any:
         for name in blocked:
             sys.modules[name] = None  # type: ignore[assignment]  # makes `import name` raise ImportError
         try:
-            import deepdiff
+            import deepdiff  # noqa: F401  (the first import, made while the names are blocked)
         finally:
             for name in blocked:
                 if sys.modules.get(name) is None:

@@ -12,7 +12,7 @@ from typing import Any
 Path = tuple[str | int, ...]
 
 
-class ById(dict):  # type: ignore[type-arg]
+class ById(dict):
     """A list of entries re-keyed by their ``id`` (a marker type, otherwise a dict)."""
 
 

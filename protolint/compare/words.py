@@ -47,7 +47,8 @@ def describe_change(kind: str, data: Any, path: tuple[str | int, ...], old: Any,
 
 def _subject(data: Any, path: tuple[str | int, ...]) -> tuple[str, list[str]]:
     """The nearest named entry (or top-level section) on ``path`` and the keys below it."""
-    node, subject, below = data, "", []
+    node, subject = data, ""
+    below: list[str] = []
     parent_key = ""
     for step in path:
         if isinstance(node, list) and isinstance(step, int) and 0 <= step < len(node):

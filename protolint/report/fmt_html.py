@@ -257,8 +257,9 @@ def _policy_text(result: CheckResult) -> str:
 
 def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], policy: str) -> PlanView:
     lines, data, source_note = _plan_source(plan)
-    waivers = data.get("waivers") if isinstance(data.get("waivers"), list) else []
-    protocol = data.get("protocol") if isinstance(data.get("protocol"), dict) else {}
+    raw_waivers, raw_protocol = data.get("waivers"), data.get("protocol")
+    waivers: list[Any] = raw_waivers if isinstance(raw_waivers, list) else []
+    protocol: dict[str, Any] = raw_protocol if isinstance(raw_protocol, dict) else {}
     findings = sorted_findings(plan)
     views = tuple(
         _finding_view(f"p{index}-f{number}", finding, metas.get(finding.rule), lines, waivers)
@@ -276,7 +277,7 @@ def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], poli
         sha256=plan.sha256,
         format_version=str(data.get("format_version", "not stated")),
         protocol=protocol_text or "not stated",
-        as_of=plan.as_of or "not recorded",
+        as_of=_as_of_text(plan),
         policy=policy,
         counts=plan_counts(plan),
         counts_text=counts_phrase(plan_counts(plan)),
@@ -286,6 +287,15 @@ def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], poli
         chart_caption=caption,
         source_note=source_note,
     )
+
+
+def _as_of_text(plan: PlanResult) -> str:
+    if plan.as_of:
+        return plan.as_of
+    if plan.rules_run and all(rule_id.startswith("schema/") for rule_id in plan.rules_run):
+        # The engine stops before the rules when the plan does not load; no date was compared.
+        return "not used (the plan did not pass the schema and reference checks, so no rule compared dates)"
+    return "not recorded"
 
 
 def _version(value: Any) -> str:
