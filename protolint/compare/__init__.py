@@ -31,7 +31,7 @@ if TYPE_CHECKING:
 __all__ = ["Change", "FindingStatus", "PlanComparison", "compare_plans"]
 
 CHANGE_KINDS = ("added", "removed", "changed")
-FINDING_STATUSES = ("introduced", "resolved", "unchanged")
+FINDING_STATUSES = ("introduced", "resolved", "unchanged", "not-rechecked")
 
 
 @dataclass(frozen=True)
@@ -63,7 +63,9 @@ class FindingStatus:
     """A finding of either version and what the amendment did to it."""
 
     status: str
-    """introduced (only in the new version), resolved (only in the old), unchanged (in both)."""
+    """introduced (only in the new version), resolved (only in the old), unchanged (in both),
+    or not-rechecked: an old finding of a rule that could not run on the new version, because
+    the new version does not pass the schema and reference checks (it is not resolved)."""
     finding: Finding
     """The new version's finding, or the old one's when resolved."""
     identity: str
@@ -125,7 +127,8 @@ def compare_plans(old: LoadedSource, new: LoadedSource, old_result: PlanResult, 
         old_sha256=old.sha256,
         new_sha256=new.sha256,
         changes=tuple(plan_changes(old, new)),
-        findings=tuple(finding_statuses(old.data, new.data, old_result.findings, new_result.findings)),
+        findings=tuple(finding_statuses(old.data, new.data, old_result.findings, new_result.findings,
+                                        new_rules_ran=rules_ran(new_result))),
         patch=tuple(jsonpatch.make_patch(old.data, new.data).patch),
     )
 
@@ -181,12 +184,18 @@ def _plain(value: Any) -> Any:
     return unkeyed(value)
 
 
+def rules_ran(result: PlanResult) -> bool:
+    """Whether the plan rules ran, i.e. the plan passed the schema and reference checks."""
+    return any(not rule_id.startswith("schema/") for rule_id in result.rules_run)
+
+
 def finding_statuses(old_data: Any, new_data: Any, old_findings: Iterable[Finding],
-                     new_findings: Iterable[Finding]) -> list[FindingStatus]:
+                     new_findings: Iterable[Finding], *, new_rules_ran: bool = True) -> list[FindingStatus]:
     """Findings split into introduced, resolved and unchanged, matched by rule and stable pointer.
 
     Two findings of one rule at one place are matched one for one (a multiset), so a second
-    instance of an old finding still counts as introduced.
+    instance of an old finding still counts as introduced. When the rules did not run on the
+    new version, an old rule finding it lacks is "not-rechecked", never "resolved".
     """
     def identity(finding: Finding, data: Any) -> str:
         return f"{finding.rule} {stable_pointer(data, finding.pointer)}"
@@ -207,8 +216,10 @@ def finding_statuses(old_data: Any, new_data: Any, old_findings: Iterable[Findin
         key = identity(finding, old_data)
         if matched[key] > 0:
             matched[key] -= 1
-        else:
+        elif new_rules_ran or finding.rule.startswith("schema/"):
             out.append(FindingStatus("resolved", finding, key))
+        else:
+            out.append(FindingStatus("not-rechecked", finding, key))
     order = {status: index for index, status in enumerate(FINDING_STATUSES)}
     return sorted(out, key=lambda item: (order[item.status], -item.finding.severity, item.finding.sort_key()))
 

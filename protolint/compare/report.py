@@ -26,7 +26,9 @@ def summary(comparison: PlanComparison) -> str:
     changes = counts["added"] + counts["removed"] + counts["changed"]
     return (f"{changes} change{'s' if changes != 1 else ''} ({counts['added']} added, {counts['removed']} removed, "
             f"{counts['changed']} changed); findings: {counts['introduced']} introduced, {counts['resolved']} resolved, "
-            f"{counts['unchanged']} unchanged")
+            f"{counts['unchanged']} unchanged"
+            + (f", {counts['not-rechecked']} not rechecked (the new version does not pass the schema and reference checks)"
+               if counts["not-rechecked"] else ""))
 
 
 def lines_text(change: Change) -> str:
@@ -55,8 +57,11 @@ def as_text(comparison: PlanComparison) -> str:
         out.append("")
     else:
         out += ["No change in the plan's content (reordered entries do not count).", ""]
-    for status, heading in (("introduced", "Findings introduced"), ("resolved", "Findings resolved")):
+    for status, heading in (("introduced", "Findings introduced"), ("resolved", "Findings resolved"),
+                            ("not-rechecked", "Old findings not rechecked (the new version does not load)")):
         items = comparison.with_status(status)
+        if status == "not-rechecked" and not items:
+            continue
         out.append(f"{heading}: {len(items) or 'none'}")
         out += [_finding_text(item) for item in items]
         out.append("")
@@ -83,9 +88,11 @@ def as_markdown(comparison: PlanComparison) -> str:
                 for change in comparison.changes]
     else:
         out.append("No change in the plan's content (reordered entries do not count).")
-    for status in ("introduced", "resolved", "unchanged"):
+    for status in ("introduced", "resolved", "unchanged", "not-rechecked"):
         items = comparison.with_status(status)
-        out += ["", f"## Findings {status} ({len(items)})", ""]
+        if status == "not-rechecked" and not items:
+            continue
+        out += ["", f"## Findings {status.replace('-', ' ')} ({len(items)})", ""]
         if items:
             out += ["| Severity | Rule | Line | Finding |", "|---|---|---|---|"]
             out += [f"| {item.finding.severity.label}{' (waived)' if item.finding.waived else ''} | {esc(item.finding.rule)} "
@@ -102,5 +109,5 @@ def as_html(comparison: PlanComparison) -> str:
     return make_env().get_template(TEMPLATE).render(
         comparison=comparison, summary=summary(comparison), lines_text=lines_text, caution=CAUTION,
         introduced=comparison.with_status("introduced"), resolved=comparison.with_status("resolved"),
-        unchanged=comparison.with_status("unchanged"),
+        unchanged=comparison.with_status("unchanged"), not_rechecked=comparison.with_status("not-rechecked"),
     )

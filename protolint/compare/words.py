@@ -33,11 +33,17 @@ _LONG = 70
 def describe_change(kind: str, data: Any, path: tuple[str | int, ...], old: Any, new: Any) -> str:
     """One sentence for a change at ``path`` (a real data path into ``data``, the version that has it)."""
     subject, field_keys = _subject(data, path)
+    in_list = bool(field_keys) and field_keys[-1].startswith("entry ") and kind != "changed"
+    if in_list:
+        field_keys = field_keys[:-1]   # "added prior-scores", not "added entry 2: prior-scores"
     field, unit = _field(field_keys)
     if not field:  # the entry itself was added or removed
         value = new if kind == "added" else old
         return f"{kind} {subject}{_entry_title(value)}" if subject else f"{kind} {_value(value)}"
-    where = f"{field} of {subject}" if subject else field
+    if in_list:
+        where = f"{subject}, {field}" if subject else field
+    else:
+        where = f"{field} {'in' if subject.startswith('the ') else 'of'} {subject}" if subject else field
     if kind == "changed":
         return f"{where}: {_value(old, unit, bare=True)} → {_value(new, unit)}"
     if kind == "added":

@@ -171,3 +171,36 @@ def test_markdown_and_html_escape_plan_text(cli, tmp_path):
     assert "&lt;script&gt;alert(1)&lt;/script&gt;" in html and "<script" not in html
     assert "default-src 'none'" in html and not re.search(r'\b(src|href)=', html)
     assert "title of SOP SOP-IMG-002: Standardised hand photography and central grading →" in html
+
+
+def test_sentences_for_a_list_value_a_section_and_a_unit(tmp_path):
+    new_text = edited(("    blinded_to: [treatment]\n", "    blinded_to: [treatment, prior-scores]\n"),
+                      ("  stated_n_total: 250\n", "  stated_n_total: 320\n"),
+                      ("      min_experience_years: 2\n", "      min_experience_years: 1\n"))
+    comparison, _ = compare(tmp_path, new_text)
+    assert [c.sentence for c in comparison.changes] == [
+        "endpoint EP-PRIMARY, blinded to: added prior-scores",
+        "qualifications min experience of rater pool SITE-DERM: 2 → 1 year",
+        "stated number of participants in the sample size: 250 → 320",
+    ]
+    assert comparison.changes[0].pointer == "/endpoints/0/blinded_to/1"
+
+
+def test_old_findings_are_not_resolved_when_the_new_version_does_not_load(tmp_path, cli_process):
+    broken = edited(("      interval_weeks: 52\n", "      interval_weeks: fifty-two\n"))
+    comparison, _ = compare(tmp_path, broken)
+    statuses = {s.status for s in comparison.findings}
+    assert comparison.with_status("resolved") == ()
+    assert [s.finding.rule for s in comparison.with_status("introduced")] == ["schema/wrong-type"]
+    assert len(comparison.with_status("not-rechecked")) == 23 and statuses == {"introduced", "not-rechecked"}
+    run = cli_process("diff", tmp_path / "old.yaml", tmp_path / "new.yaml", "--fail-on-new", "error")
+    assert run.returncode == 1 and "23 not rechecked" in run.stdout
+
+
+def test_text_output_keeps_control_characters_on_one_line(cli, tmp_path):
+    old = write(tmp_path, "old.yaml", DEMO_TEXT)
+    new = write(tmp_path, "new.yaml", DEMO_TEXT.replace(
+        "    title: Standardised hand photography and central grading\n", '    title: "evil\\x1b[31m\\nnext"\n'))
+    output = cli("diff", old, new).output
+    line = next(line for line in output.splitlines() if "title of SOP SOP-IMG-002" in line)
+    assert line.endswith("→ evil\\x1b[31m next") and "\x1b" not in output   # newline folded, ESC shown
