@@ -378,7 +378,9 @@ def _value_words(key: str, value: Any, unit: str) -> str:
     if isinstance(value, bool):
         return "yes" if value else "no"
     if isinstance(value, list):
-        return ", ".join(_value_words(key, item, "") for item in value) + (f" {unit}" if unit and value else "")
+        items = [_value_words(key, item, "") for item in value]
+        joined = " and ".join(items) if len(items) == 2 else ", ".join(items)
+        return joined + (f" {unit}" if unit and value else "")
     if isinstance(value, dict):
         return "; ".join(f"{_fact_words(k, v)[0].lower()}: {_value_words(k, v, '')}" for k, v in value.items())
     if value is None:

@@ -77,7 +77,7 @@ def test_report_escapes_plan_text_and_loads_nothing():
 
 def test_facts_are_in_words_with_units():
     html = render_report("html", hand_built(), [])
-    assert "<dt>Participants needed (enrolled)</dt><dd>316 participants</dd>" in html
+    assert '<dt>Participants needed (enrolled)</dt><dd class="short">316 participants</dd>' in html
     assert "n_total_needed" not in html
     assert "Formula: n = ... &lt;b&gt;" in html
 
@@ -116,7 +116,7 @@ def test_demo_finding_shows_marked_plan_lines_rationale_and_source(cli, demo_pla
         assert f'<span class="line{marked}"><span class="number">{arrow}{number}</span>{escape(lines[number - 1])}</span>' in article
     assert "Why it matters:" in article and "Source:</strong> Shrout &amp; Fleiss 1979" in article
     # The facts in words: no internal key survives anywhere on the page.
-    assert "<dt>Ratings averaged in the evidence</dt><dd>2 ratings</dd>" in article
+    assert '<dt>Ratings averaged in the evidence</dt><dd class="short">2 ratings</dd>' in article
     for key in ("k_reported", "m_trial", "reliability_for_trial", "n_total_needed", " facts)"):
         assert key not in html, key
 
