@@ -25,6 +25,7 @@ from typing import TYPE_CHECKING, Any, Mapping, Sequence
 
 from protolint import CAUTION
 from protolint.report._common import counts_phrase, json_safe, plan_counts, plural, sorted_findings
+from protolint.rules.sources import split_sources
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding, PlanResult
@@ -193,7 +194,8 @@ class FindingView:
     summary: str
     rationale: str
     """Markdown (our own rule documentation, still rendered through the safe set-up)."""
-    source: str
+    sources: tuple[str, ...]
+    """The rule's citations, one per item (or "common practice")."""
     facts: tuple[Fact, ...]
     formula: str
     excerpt: tuple[ExcerptLine, ...]
@@ -345,7 +347,7 @@ def _finding_view(anchor: str, finding: Finding, meta: RuleMeta | None, lines: l
         message=finding.message,
         summary=meta.summary if meta else "",
         rationale=_rationale(meta.documentation) if meta else "",
-        source=meta.source if meta else "",
+        sources=tuple(split_sources(meta.source)) if meta else (),
         facts=tuple(Fact(*_fact_words(key, value)) for key, value in facts.items()) if isinstance(facts, dict) else (),
         formula=formula,
         excerpt=_excerpt(lines, finding.location.line, finding.location.end_line),
