@@ -78,7 +78,9 @@ def _finding_text(item: FindingStatus) -> str:
 
 
 def as_markdown(comparison: PlanComparison) -> str:
-    from protolint.render.markdown import markdown_escape as esc
+    # The report formatters' own escaping (standard library only), so that the Markdown
+    # comparison, like text and JSON, needs the core install alone.
+    from protolint.report.fmt_markdown import escape as esc
 
     out = [f"# Plan comparison: {esc(comparison.old_file)} → {esc(comparison.new_file)}", "", esc(summary(comparison)), ""]
     out += ["## Changes in the plan", ""]

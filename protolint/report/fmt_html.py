@@ -245,9 +245,9 @@ class PlanView:
 
 
 def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:
-    from markupsafe import Markup
-
+    # jinja2 first: without the documents extra, its absence gives the one-line install hint.
     from protolint.render.environment import make_env
+    from markupsafe import Markup
 
     metas = {meta.id: meta for meta in rules}
     policy = _policy_text(result)
