@@ -28,6 +28,7 @@ COMMANDS: dict[str, tuple[str, str]] = {
     "calendar": ("protolint.commands.calendar", "Training, certification and monitoring dates as iCalendar."),
     "design": ("protolint.commands.design", "Variance components and the cheapest raters x occasions x N design."),
     "drift": ("protolint.commands.drift", "Rater certification, drift and the recertification due list."),
+    "diff": ("protolint.commands.diff", "What changed between two versions of a plan, and in its findings."),
 }
 
 

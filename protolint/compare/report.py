@@ -1,0 +1,115 @@
+"""A plan comparison as text, JSON, Markdown or HTML (the HTML page shares the review report's look)."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+from protolint import CAUTION
+from protolint.report._common import one_line
+
+if TYPE_CHECKING:
+    from protolint.compare import Change, FindingStatus, PlanComparison
+
+FORMATS = ("text", "json", "markdown", "html")
+TEMPLATE = "diff.html.j2"
+
+
+def render_comparison(fmt: str, comparison: PlanComparison) -> str:
+    renderers = {"text": as_text, "json": as_json, "markdown": as_markdown, "html": as_html}
+    if fmt not in renderers:
+        raise ValueError(f"comparison format must be one of {', '.join(FORMATS)}; got {fmt!r}")
+    return renderers[fmt](comparison)
+
+
+def summary(comparison: PlanComparison) -> str:
+    counts = comparison.counts()
+    changes = counts["added"] + counts["removed"] + counts["changed"]
+    return (f"{changes} change{'s' if changes != 1 else ''} ({counts['added']} added, {counts['removed']} removed, "
+            f"{counts['changed']} changed); findings: {counts['introduced']} introduced, {counts['resolved']} resolved, "
+            f"{counts['unchanged']} unchanged"
+            + (f", {counts['not-rechecked']} not rechecked (the new version does not pass the schema and reference checks)"
+               if counts["not-rechecked"] else ""))
+
+
+def lines_text(change: Change) -> str:
+    if change.kind == "added":
+        return f"new line {change.new_line}"
+    if change.kind == "removed":
+        return f"old line {change.old_line}"
+    return f"line {change.old_line} → {change.new_line}"
+
+
+def as_json(comparison: PlanComparison) -> str:
+    from protolint.commands._shared import to_json
+
+    report = {"tool": {"name": "protolint", "command": "diff"}, **comparison.to_json(), "caution": CAUTION}
+    return to_json(report)
+
+
+def as_text(comparison: PlanComparison) -> str:
+    out = [f"protolint diff: {one_line(comparison.old_file)} → {one_line(comparison.new_file)}",
+           summary(comparison), ""]
+    if comparison.changes:
+        out.append("Changes in the plan")
+        for change in comparison.changes:
+            out.append(f"  {change.kind:<8} {one_line(change.sentence)}")
+            out.append(f"           {one_line(change.pointer)}  ({lines_text(change)})")
+        out.append("")
+    else:
+        out += ["No change in the plan's content (reordered entries do not count).", ""]
+    for status, heading in (("introduced", "Findings introduced"), ("resolved", "Findings resolved"),
+                            ("not-rechecked", "Old findings not rechecked (the new version does not load)")):
+        items = comparison.with_status(status)
+        if status == "not-rechecked" and not items:
+            continue
+        out.append(f"{heading}: {len(items) or 'none'}")
+        out += [_finding_text(item) for item in items]
+        out.append("")
+    out.append(f"Unchanged findings: {len(comparison.with_status('unchanged'))} (listed in --format json, markdown or html)")
+    out += ["", f"Caution: {CAUTION}", ""]
+    return "\n".join(out)
+
+
+def _finding_text(item: FindingStatus) -> str:
+    finding = item.finding
+    waived = " (waived)" if finding.waived else ""
+    return (f"  {finding.severity.label:<8}{waived} {finding.rule} at {one_line(finding.file)}:{finding.location.line}:"
+            f"{finding.location.column}: {one_line(finding.message)}")
+
+
+def as_markdown(comparison: PlanComparison) -> str:
+    # The report formatters' own escaping (standard library only), so that the Markdown
+    # comparison, like text and JSON, needs the core install alone.
+    from protolint.report.fmt_markdown import escape as esc
+
+    out = [f"# Plan comparison: {esc(comparison.old_file)} → {esc(comparison.new_file)}", "", esc(summary(comparison)), ""]
+    out += ["## Changes in the plan", ""]
+    if comparison.changes:
+        out += ["| Change | What | Pointer (new version) | Lines |", "|---|---|---|---|"]
+        out += [f"| {change.kind} | {esc(change.sentence)} | {esc(change.pointer)} | {esc(lines_text(change))} |"
+                for change in comparison.changes]
+    else:
+        out.append("No change in the plan's content (reordered entries do not count).")
+    for status in ("introduced", "resolved", "unchanged", "not-rechecked"):
+        items = comparison.with_status(status)
+        if status == "not-rechecked" and not items:
+            continue
+        out += ["", f"## Findings {status.replace('-', ' ')} ({len(items)})", ""]
+        if items:
+            out += ["| Severity | Rule | Line | Finding |", "|---|---|---|---|"]
+            out += [f"| {item.finding.severity.label}{' (waived)' if item.finding.waived else ''} | {esc(item.finding.rule)} "
+                    f"| {item.finding.location.line} | {esc(item.finding.message)} |" for item in items]
+        else:
+            out.append("None.")
+    out += ["", f"> **Caution.** {esc(CAUTION)}", ""]
+    return "\n".join(out)
+
+
+def as_html(comparison: PlanComparison) -> str:
+    from protolint.render.environment import make_env
+
+    return make_env().get_template(TEMPLATE).render(
+        comparison=comparison, summary=summary(comparison), lines_text=lines_text, caution=CAUTION,
+        introduced=comparison.with_status("introduced"), resolved=comparison.with_status("resolved"),
+        unchanged=comparison.with_status("unchanged"), not_rechecked=comparison.with_status("not-rechecked"),
+    )

@@ -1,0 +1,46 @@
+"""`diff` in a core-only install (what a CI job on a pull request gets).
+
+Text, JSON and Markdown need only the core (deepdiff and jsonpatch are core dependencies); the
+HTML pages render through the documents' Jinja set-up, so without the `documents` extra they
+say so in one line and write nothing.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from tests.test_core_install import _run, core_venv  # noqa: F401  (the module-scoped venv fixture)
+
+REPO = Path(__file__).resolve().parents[2]
+DEMO = REPO / "demo_protocol" / "plan.yaml"
+
+
+@pytest.fixture(scope="module")
+def amended(tmp_path_factory) -> Path:
+    path = tmp_path_factory.mktemp("amended") / "amended.yaml"
+    path.write_text(DEMO.read_text(encoding="utf-8").replace("interval_weeks: 52", "interval_weeks: 30"), encoding="utf-8")
+    return path
+
+
+def test_core_diff_text_json_and_markdown(core_venv: Path, amended: Path) -> None:  # noqa: F811
+    protolint = str(core_venv / "bin" / "protolint")
+    text = _run(core_venv, protolint, "diff", str(DEMO), str(amended), "--fail-on-new", "error")
+    assert text.returncode == 0, text.stderr
+    assert "monitoring interval of rater pool SITE-DERM: 52 → 30 weeks" in text.stdout
+    report = json.loads(_run(core_venv, protolint, "diff", str(DEMO), str(amended), "--format", "json").stdout)
+    assert report["patch"] == [{"op": "replace", "path": "/rater_pools/0/monitoring/interval_weeks", "value": 30}]
+    markdown = _run(core_venv, protolint, "diff", str(DEMO), str(amended), "--format", "markdown")
+    assert markdown.returncode == 0 and "| changed | monitoring interval" in markdown.stdout, markdown.stderr
+
+
+def test_core_html_says_which_extra(core_venv: Path, amended: Path, tmp_path: Path) -> None:  # noqa: F811
+    protolint = str(core_venv / "bin" / "protolint")
+    for args in (("diff", str(DEMO), str(amended)), ("check", str(DEMO))):
+        out = tmp_path / f"{args[0]}.html"
+        done = _run(core_venv, protolint, *args, "--format", "html", "--output", str(out))
+        assert done.returncode == 2 and "Traceback" not in done.stderr, done.stderr
+        assert "needs the optional 'documents' dependencies (jinja2 is not installed)" in done.stderr
+        assert not out.exists()
