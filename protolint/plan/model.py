@@ -294,6 +294,11 @@ class RaterPool:
     def label(self) -> str:
         return self.name or self.id
 
+    @property
+    def is_central(self) -> bool:
+        """Rates centrally (one team for every site) rather than at the sites."""
+        return self.location == "central"
+
 
 @dataclass(frozen=True)
 class RaterCertification:
@@ -431,6 +436,12 @@ class Plan:
 
     def endpoints_for(self, instrument_id: str) -> tuple[Endpoint, ...]:
         return tuple(item for item in self.endpoints if item.instrument == instrument_id)
+
+    def people_pools(self) -> tuple[RaterPool, ...]:
+        """Pools that rate at least one instrument scored by people (the ones that need
+        training, certification and monitoring; a device or diary needs none)."""
+        return tuple(pool for pool in self.rater_pools
+                     if any(self.instrument(i).is_rated_by_people for i in pool.instruments))
 
 
 T = TypeVar("T")

@@ -68,7 +68,7 @@ def instrument_first_assessment(plan: Plan, instrument_id: str) -> date | None:
 
 def pool_sites(plan: Plan, pool_id: str) -> tuple[str, ...]:
     pool = plan.pool(pool_id)
-    if pool.location == "central":
+    if pool.is_central:
         return ()
     return pool.sites if pool.sites else tuple(site.id for site in plan.study.sites)
 

@@ -17,7 +17,7 @@ from protolint import CAUTION, __version__
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Plan
 from protolint.plan.timeline import certification_expiry, study_window
-from protolint.render import schedule
+from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, recertification_dates, training_deadline
 from protolint.render.context import document_date
 
 UID_DOMAIN = "protolint.invalid"
@@ -39,7 +39,7 @@ def stable_uid(study_id: str, kind: str, ids: tuple[str, ...], day: date) -> str
 
 
 def _site_name(plan: Plan, site_id: str) -> str:
-    return "central" if site_id == schedule.CENTRAL else plan.study.site(site_id).name
+    return "central" if site_id == CENTRAL else plan.study.site(site_id).name
 
 
 def dated_duties(plan: Plan) -> tuple[DatedDuty, ...]:
@@ -50,9 +50,9 @@ def dated_duties(plan: Plan) -> tuple[DatedDuty, ...]:
     for pool in plan.rater_pools:
         days_before = pool.training.days_before_first_rating if pool.training else None
         interval = pool.recertification.interval_months if pool.recertification else None
-        for span in schedule.pool_spans(plan, pool):
+        for span in pool_spans(plan, pool):
             where = _site_name(plan, span.site)
-            deadline = schedule.training_deadline(span.first_rating, days_before)
+            deadline = training_deadline(span.first_rating, days_before)
             duties.append(DatedDuty(
                 "training-deadline", deadline, f"{study}: training complete — {pool.label}, {where}",
                 f"Initial rater training for {pool.label} at {where} must be complete; first rating {span.first_rating.isoformat()}.",
@@ -62,10 +62,10 @@ def dated_duties(plan: Plan) -> tuple[DatedDuty, ...]:
                 f"{study}: raters certified — {pool.label}, {where}",
                 f"Every rater of {pool.label} at {where} certified before the first rating on {span.first_rating.isoformat()}.",
                 (pool.id, span.site)))
-            rostered = [r for r in plan.roster if r.pool == pool.id and (span.site == schedule.CENTRAL or r.site == span.site)]
+            rostered = [r for r in plan.roster if r.pool == pool.id and (span.site == CENTRAL or r.site == span.site)]
             if interval and not rostered:
                 # No named raters yet: the pool's certifications fall due counted from first rating.
-                for due in schedule.recertification_dates(span.first_rating, interval, end):
+                for due in recertification_dates(span.first_rating, interval, end):
                     duties.append(DatedDuty(
                         "recertification", due, f"{study}: recertification due — {pool.label}, {where}",
                         f"Certifications of {pool.label} at {where} made by {span.first_rating.isoformat()} fall due "
@@ -79,14 +79,14 @@ def dated_duties(plan: Plan) -> tuple[DatedDuty, ...]:
                     continue
                 # The first date is the certification's own expiry when the roster states one;
                 # later ones follow the pool's interval from there.
-                later = schedule.recertification_dates(first_due, interval, end) if interval else ()
+                later = recertification_dates(first_due, interval, end) if interval else ()
                 for due in (first_due, *later):
                     duties.append(DatedDuty(
                         "recertification", due, f"{study}: recertification due — rater {rater.id}, {cert.instrument}",
                         f"Rater {rater.id} ({pool.label}) certified on {cert.instrument} on {cert.date.isoformat()}; "
                         + (f"recertify every {interval} months." if interval else f"the certification lapses on {first_due.isoformat()}."),
                         (pool.id, rater.id, cert.instrument)))
-        for site_id, rounds in schedule.monitoring_rounds(plan, pool).items():
+        for site_id, rounds in monitoring_rounds(plan, pool).items():
             where = _site_name(plan, site_id)
             for r in rounds:
                 label = "close-out monitoring round" if r.close_out else f"monitoring round {r.number}"

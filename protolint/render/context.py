@@ -17,7 +17,7 @@ from typing import Any, Callable
 from protolint import CAUTION, __version__
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Criterion, Endpoint, Instrument, Plan, RaterPool, Sop
-from protolint.render import schedule
+from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans
 from protolint.render.environment import number, words
 
 SIGNATURE_NOTE = (
@@ -407,7 +407,7 @@ def checklist_context(loaded: LoadedPlan, paper: str = "a4", site: str | None = 
     by_site: dict[str, list[PoolChecklist]] = {}
     unmonitored = []
     for pool in plan.rater_pools:
-        rounds = schedule.monitoring_rounds(plan, pool)
+        rounds = monitoring_rounds(plan, pool)
         if not rounds:
             unmonitored.append(pool.label)
             continue
@@ -415,15 +415,15 @@ def checklist_context(loaded: LoadedPlan, paper: str = "a4", site: str | None = 
         instruments = ", ".join(plan.instrument(i).name for i in pool.instruments)
         for site_id, site_rounds in rounds.items():
             raters = tuple(r.id for r in plan.roster
-                           if r.pool == pool.id and (site_id == schedule.CENTRAL or r.site == site_id))
+                           if r.pool == pool.id and (site_id == CENTRAL or r.site == site_id))
             by_site.setdefault(site_id, []).append(PoolChecklist(
                 pool_id=pool.id, label=f"{pool.label} — every {pool.monitoring.interval_weeks} weeks",  # type: ignore[union-attr]
                 instruments=instruments, what_to_check=what, remediation=pool.monitoring.remediation,  # type: ignore[union-attr]
                 raters=raters,
                 rounds=tuple(RoundRow(r.number, r.due, r.covers_from, r.close_out) for r in site_rounds)))
     sites = [SiteChecklist(s.id, s.name, s.country, tuple(by_site[s.id])) for s in plan.study.sites if s.id in by_site]
-    if schedule.CENTRAL in by_site:
-        sites.append(SiteChecklist(schedule.CENTRAL, "Central rating", None, tuple(by_site[schedule.CENTRAL])))
+    if CENTRAL in by_site:
+        sites.append(SiteChecklist(CENTRAL, "Central rating", None, tuple(by_site[CENTRAL])))
     if site is not None:
         known = [s.id for s in sites]
         if site not in known:
@@ -519,7 +519,7 @@ def signing_pools(plan: Plan, sop: Sop) -> tuple[RaterPool, ...]:
 
 def signoff_sheet(plan: Plan, pool: RaterPool) -> SignOffSheet:
     rows = tuple(SignOffRow(r.id, r.site or "central") for r in plan.roster if r.pool == pool.id)
-    sites = 1 if pool.location == "central" else len(schedule.pool_spans(plan, pool)) or len(plan.study.sites)
+    sites = 1 if pool.is_central else len(pool_spans(plan, pool)) or len(plan.study.sites)
     expected = (pool.raters_per_site or 1) * sites
     blank = max(MIN_SIGNOFF_ROWS, expected - len(rows)) if len(rows) < expected else MIN_SIGNOFF_ROWS // 2
     return SignOffSheet(pool.label, rows, blank)

@@ -129,7 +129,7 @@ def eligibility_rated_unconfirmed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
     for endpoint in plan.endpoints:
         if endpoint.use is None or not plan.instrument(endpoint.instrument).is_rated_by_people:
             continue
-        if plan.pool(endpoint.rater_pool).location == "central":
+        if plan.pool(endpoint.rater_pool).is_central:
             continue
         if endpoint.blinded_to and "eligibility-cutoff" in endpoint.blinded_to:
             continue

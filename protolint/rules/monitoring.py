@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan
+from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, rounds_while_rating
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 
@@ -21,9 +22,7 @@ def none_planned(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: a pool with no `monitoring`, or monitoring with no `interval_weeks` or `method`.
     """
-    for pool in plan.rater_pools:
-        if not any(plan.instrument(i).is_rated_by_people for i in pool.instruments):
-            continue
+    for pool in plan.people_pools():
         monitoring = pool.monitoring
         if monitoring is None:
             yield Hit(pool.path + ("id",), f"rater pool {pool.id} has no monitoring of raters after certification")
@@ -59,42 +58,57 @@ def interval_beyond_participation(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
                       {"interval_days": monitoring.interval_weeks * 7, "participant_days": span})
 
 
-def _people_pools(plan: Plan):
-    return [pool for pool in plan.rater_pools if any(plan.instrument(i).is_rated_by_people for i in pool.instruments)]
+ROUND_DEFINITION = ("round k falls k x interval after the pool's first rating at the site, up to the last rating; "
+                    "a close-out round on the last rating day reviews the ratings made after the last regular round")
 
 
 @rule("monitoring/no-rounds-in-rating-period", "warning", computed=True,
       source="common practice (arithmetic on the plan's schedule); rater drift: Mulsant et al. 2002, Am J Psychiatry 159:1598")
 def no_rounds_in_rating_period(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
-    """Monitoring is so infrequent that no round falls inside the trial's rating period.
+    """Monitoring is so infrequent that no round falls while ratings are being made.
 
-    The rating period runs from the first participant's first rated assessment to the last
-    participant's last: `study.first_assessment` plus the enrolment period plus one
-    participant's rated span (see the timeline conventions). The number of monitoring rounds
-    inside it is floor(rating period / interval). Zero rounds means raters are never checked
-    while data are collected.
+    A pool starts rating at a site on the first day any of its endpoints is rated there (the
+    site's own `first_assessment` when it has one) and stops on the last participant's last
+    rated visit. Monitoring round k falls k × `interval_weeks` after that start; when the last
+    regular round falls before the last rating day, a close-out round on that day reviews the
+    rest. These are the rounds the monitoring checklist and the calendar list. When the only
+    round at a site is the close-out round, its raters are checked only after every rating has
+    been made: drift is found too late to correct any of them.
 
-    **Passes**: interval 12 weeks, rating period 80 weeks (6 rounds).
+    **Passes**: interval 12 weeks, rating period 78 weeks (6 regular rounds and a close-out round).
 
-    **Fails**: interval 104 weeks, rating period 80 weeks (0 rounds).
+    **Fails**: interval 80 weeks, rating period 78 weeks (only the close-out round).
     """
-    from protolint.plan.timeline import study_window
-
-    window = study_window(plan)
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         monitoring = pool.monitoring
         if monitoring is None or monitoring.interval_weeks is None:
             continue
-        interval_days = monitoring.interval_weeks * 7
-        rounds = window.days // interval_days
-        if rounds == 0:
-            yield Hit(monitoring.path + ("interval_weeks",),
-                      f"rater pool {pool.id} is monitored every {monitoring.interval_weeks} weeks, but rating runs only "
-                      f"{window.days} days ({window.first.isoformat()} to {window.last.isoformat()}): floor({window.days} / "
-                      f"{interval_days}) = 0 monitoring rounds while data are collected; shorten the interval",
-                      {"pool": pool.id, "rating_period_days": window.days, "first_rating": window.first.isoformat(),
-                       "last_rating": window.last.isoformat(), "interval_days": interval_days, "rounds": 0,
-                       "formula": "rounds = floor(rating period / interval)"})
+        rounds = monitoring_rounds(plan, pool)
+        late = [site for site, site_rounds in rounds.items() if not rounds_while_rating(site_rounds)]
+        if not late:
+            continue
+        spans = {span.site: span for span in pool_spans(plan, pool)}
+        first = min(spans[site].first_rating for site in late)
+        last = max(spans[site].last_rating for site in late)
+        days = (last - first).days
+        count = sum(len(rounds[site]) for site in late)
+        where = "centrally" if late == [CENTRAL] else f"at {_sites_phrase(late)}"
+        span_words = "" if len({spans[site].first_rating for site in late}) == 1 else "at most "
+        yield Hit(monitoring.path + ("interval_weeks",),
+                  f"rater pool {pool.id} is monitored every {monitoring.interval_weeks} weeks, but {where} it rates for "
+                  f"{span_words}{days} days ({first.isoformat()} to {last.isoformat()}): the first round would fall after the "
+                  f"last rating, so the only round is the close-out round on {last.isoformat()}, when every rating has been "
+                  "made; shorten the interval so that raters are checked while data are collected",
+                  {"pool": pool.id, "sites": late, "rating_period_days": days, "first_rating": first.isoformat(),
+                   "last_rating": last.isoformat(), "interval_days": monitoring.interval_weeks * 7,
+                   "rounds": count, "rounds_while_rating": 0, "formula": ROUND_DEFINITION})
+
+
+def _sites_phrase(sites: list[str]) -> str:
+    names = ["central rating" if site == CENTRAL else f"site {site}" if len(sites) == 1 else site for site in sites]
+    if len(names) == 1:
+        return names[0]
+    return "sites " + ", ".join(names[:-1]) + " and " + names[-1]
 
 
 @rule("monitoring/interval-exceeds-drift-window", "warning", computed=True,
@@ -105,27 +119,31 @@ def interval_exceeds_drift_window(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
 
     Drift builds up gradually; the longer the gap between checks, the more ratings a drifting
     rater makes before anyone notices. The rule reports intervals longer than
-    `max_interval_weeks` together with the number of rounds inside the rating period.
+    `max_interval_weeks` together with the number of regular rounds (those that fall while
+    ratings are made, as the monitoring checklist lists them) at the site with the fewest.
 
     **Passes**: monitoring every 12 weeks.
 
     **Fails**: monitoring every 52 weeks against a 26-week drift window.
     """
-    from protolint.plan.timeline import study_window
-
-    window = study_window(plan)
     limit = int(ctx.thresholds["max_interval_weeks"])
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         monitoring = pool.monitoring
         if monitoring is None or monitoring.interval_weeks is None or monitoring.interval_weeks <= limit:
             continue
-        rounds = window.days // (monitoring.interval_weeks * 7)
+        per_site = {site: len(rounds_while_rating(site_rounds)) for site, site_rounds in monitoring_rounds(plan, pool).items()}
+        spans = pool_spans(plan, pool)
+        days = max(((span.last_rating - span.first_rating).days for span in spans), default=0)
+        fewest = min(per_site.values(), default=0)
+        count = f"{fewest} regular round{'' if fewest == 1 else 's'}"
+        if len(per_site) > 1:
+            count += " at the site with the fewest"
         yield Hit(monitoring.path + ("interval_weeks",),
                   f"rater pool {pool.id} is monitored every {monitoring.interval_weeks} weeks, longer than the {limit}-week "
-                  f"drift window; that gives {rounds} round(s) in {window.days} days of rating, so a drifting rater can rate "
+                  f"drift window; that gives {count} in at most {days} days of rating, so a drifting rater can rate "
                   f"for up to {monitoring.interval_weeks} weeks unnoticed",
                   {"pool": pool.id, "interval_weeks": monitoring.interval_weeks, "max_interval_weeks": limit,
-                   "rating_period_days": window.days, "rounds": rounds})
+                   "rating_period_days": days, "rounds": fewest})
 
 
 @rule("monitoring/recertification-too-infrequent", "warning",
@@ -142,7 +160,7 @@ def recertification_too_infrequent(plan: Plan, ctx: RuleContext) -> Iterator[Hit
     **Fails**: no `recertification`, or `interval_months: 24`.
     """
     limit = int(ctx.thresholds["max_months"])
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         recert = pool.recertification
         if recert is None or recert.interval_months is None:
             where = recert.path if recert is not None else pool.path + ("id",)
@@ -166,7 +184,7 @@ def no_drift_criteria(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: monitoring with `interval_weeks` and `method` only.
     """
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         monitoring = pool.monitoring
         if monitoring is None:
             continue
@@ -196,7 +214,7 @@ def no_duplicate_ratings(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     **Fails**: `method: [data-surveillance]` only, or `duplicate_fraction: 0.02`.
     """
     minimum = float(ctx.thresholds["min_duplicate_fraction"])
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         monitoring = pool.monitoring
         if monitoring is None or not monitoring.method:
             continue

@@ -27,9 +27,7 @@ def no_certification_criterion(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: a pool with `certification: {method: recorded-cases, cases: 10}` and no criterion.
     """
-    for pool in plan.rater_pools:
-        if not any(plan.instrument(i).is_rated_by_people for i in pool.instruments):
-            continue
+    for pool in plan.people_pools():
         certification = pool.certification
         criterion = certification.criterion if certification else None
         measurable = criterion is not None and (
@@ -41,9 +39,6 @@ def no_certification_criterion(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
             yield Hit(where, f"rater pool {pool.id} has {what}; state the coefficient and minimum, or the largest "
                              "allowed deviation from the reference scores, that a rater must reach")
 
-
-def _people_pools(plan: Plan):
-    return [pool for pool in plan.rater_pools if any(plan.instrument(i).is_rated_by_people for i in pool.instruments)]
 
 
 @rule("raters/no-qualifications", "error",
@@ -59,7 +54,7 @@ def no_qualifications(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: a pool without `qualifications`.
     """
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         q = pool.qualifications
         if q is None or (not q.profession and q.min_experience_years is None):
             where = q.path if q is not None else pool.path + ("id",)
@@ -234,11 +229,11 @@ def no_turnover_plan(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     **Fails**: no `turnover`, or `raters_per_site: 1`.
     """
     minimum = int(ctx.thresholds["min_raters_per_site"])
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         if not pool.turnover:
             yield Hit(pool.path + ("id",), f"rater pool {pool.id} has no procedure for a rater who leaves; say how a "
                                            "replacement is trained and certified before rating")
-        if pool.location != "central" and pool.raters_per_site is not None and pool.raters_per_site < minimum:
+        if not pool.is_central and pool.raters_per_site is not None and pool.raters_per_site < minimum:
             yield Hit(pool.path + ("raters_per_site",),
                       f"rater pool {pool.id} keeps {plural(pool.raters_per_site, 'certified rater')} per site, fewer than {minimum}; "
                       "certify a backup rater at each site",
@@ -257,7 +252,7 @@ def confounded_with_arm(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: `arm_assignment: arm-specific`.
     """
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         if pool.arm_assignment == "arm-specific":
             yield Hit(pool.path + ("arm_assignment",),
                       f"raters of pool {pool.id} rate only one arm each, so rater effects are confounded with treatment; "

@@ -76,7 +76,7 @@ def rating_before_raters_ready(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     reported: set[tuple[str, str]] = set()
     for endpoint in plan.endpoints:
         instrument = plan.instrument(endpoint.instrument)
-        if not instrument.is_rated_by_people or plan.pool(endpoint.rater_pool).location == "central":
+        if not instrument.is_rated_by_people or plan.pool(endpoint.rater_pool).is_central:
             continue
         for site in plan.study.sites:
             raters = [r for r in plan.roster if r.site == site.id and r.pool == endpoint.rater_pool]

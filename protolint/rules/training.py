@@ -16,9 +16,6 @@ from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 _RATER_CHANGES = frozenset({"instrument-version", "administration", "scoring"})
 
 
-def _people_pools(plan: Plan) -> list[RaterPool]:
-    return [pool for pool in plan.rater_pools if any(plan.instrument(i).is_rated_by_people for i in pool.instruments)]
-
 
 @rule("training/no-training-plan", "error",
       source=f"{S.E6}, Annex 1 section 2.3.2 (trial-related training corresponding to the delegated activities)")
@@ -32,7 +29,7 @@ def no_training_plan(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: a pool without `training`, or `training: {hours: 2}` with no content.
     """
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         if pool.training is None:
             yield Hit(pool.path + ("id",), f"rater pool {pool.id} has no initial training; describe its content, format and trainer")
         elif not pool.training.content:
@@ -52,7 +49,7 @@ def reference_scores_unstated(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: a certification without `reference_scores`.
     """
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         cert = pool.certification
         if cert is not None and cert.method != "co-rating" and not cert.reference_scores:
             yield Hit(pool.path + ("certification",),
@@ -92,7 +89,7 @@ def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     min_cases = int(ctx.thresholds["min_cases"])
     max_width = float(ctx.thresholds["max_ci_width"])
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         cert = pool.certification
         if cert is None or cert.cases is None or cert.method == "co-rating":
             continue
@@ -127,7 +124,7 @@ def no_records(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: `training` without `records`.
     """
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         if pool.training is not None and not pool.training.records:
             yield Hit(pool.training.path, f"the training of rater pool {pool.id} does not say how training and "
                                           "certification are recorded; name the record and where it is filed")

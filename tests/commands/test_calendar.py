@@ -10,7 +10,7 @@ from icalendar import Calendar
 
 from protolint.plan import read_plan_file
 from protolint.render.calendar import dated_duties
-from protolint.render.schedule import monitoring_rounds
+from protolint.plan.monitoring import monitoring_rounds
 
 
 @pytest.fixture(autouse=True)

@@ -255,8 +255,12 @@ def test_certification_rule_working() -> None:
 
 def test_monitoring_rounds_working() -> None:
     # Rating period: 52 weeks of enrolment (364 days) + a participant's span, max(85 - 1, 26 x 7)
-    # = 182 days -> 546 days; every 80 weeks (560 days): floor(546 / 560) = 0 rounds.
+    # = 182 days -> 546 days; every 80 weeks (560 days) no regular round falls inside it, so
+    # each of the two sites has only its close-out round on the last rating day: 2 rounds, the
+    # rows the checklist prints (tests/rules/test_round_agreement.py), none while rating.
     case = build_case("monitoring/no-rounds-in-rating-period", CASES / "monitoring" / "no-rounds-in-rating-period" / "fail.yaml")
     (finding,) = _findings(case.text, "monitoring/no-rounds-in-rating-period")
     assert finding.facts["rating_period_days"] == 546
-    assert finding.facts["rounds"] == 0
+    assert finding.facts["rounds_while_rating"] == 0
+    assert finding.facts["rounds"] == 2
+    assert finding.facts["sites"] == ["S01", "S02"]

@@ -1,6 +1,6 @@
 """Monitoring rounds on a hand-worked example.
 
-Worked by hand (calendar arithmetic, no code), for the plan in ``fixtures/minimal.yaml`` with a
+Worked by hand (calendar arithmetic, no code), for the plan in ``tests/render/fixtures/minimal.yaml`` with a
 5-week monitoring interval and a second site that starts on 2026-04-01:
 
 * first assessment 2026-03-02; enrolment 4 weeks (28 days); each participant is rated on
@@ -18,11 +18,12 @@ from __future__ import annotations
 
 from dataclasses import replace
 from datetime import date
+from pathlib import Path
 
 import pytest
 
 from protolint.plan.model import Monitoring
-from protolint.render.schedule import (
+from protolint.plan.monitoring import (
     CENTRAL,
     add_months,  # re-exported from protolint.plan.timeline
     monitoring_rounds,
@@ -30,6 +31,23 @@ from protolint.render.schedule import (
     rounds_between,
     training_deadline,
 )
+
+
+MINIMAL = Path(__file__).resolve().parents[1] / "render" / "fixtures" / "minimal.yaml"
+
+
+@pytest.fixture(scope="module")
+def minimal_loaded():
+    from protolint.plan import read_plan_file
+
+    return read_plan_file(str(MINIMAL))
+
+
+@pytest.fixture(scope="module")
+def demo_loaded():
+    from protolint.plan import read_plan_file
+
+    return read_plan_file(str(Path(__file__).resolve().parents[2] / "demo_protocol" / "plan.yaml"))
 
 
 @pytest.fixture

@@ -1,7 +1,10 @@
 """Monitoring rounds per rater pool and site, and the other dated duties of a plan.
 
-Pure functions of the typed plan; the checklist, the binder and the calendar all use them, so a
-date printed on paper is the date in the calendar.
+Pure functions of the typed plan. This module is the one definition of "a monitoring round":
+the rule ``monitoring/no-rounds-in-rating-period``, the monitoring checklist, the binder and
+the calendar all take their rounds from :func:`monitoring_rounds`, so a date printed on paper
+is the date in the calendar and the number of rounds a finding counts is the number of rows
+on the checklist.
 
 Conventions (in addition to those of :mod:`protolint.plan.timeline`):
 
@@ -24,6 +27,11 @@ from datetime import date, timedelta
 
 from protolint.plan.model import Plan, RaterPool
 from protolint.plan.timeline import add_months, endpoint_first_assessment, pool_sites, study_window
+
+__all__ = [
+    "CENTRAL", "MonitoringRound", "PoolSiteSpan", "monitoring_rounds", "pool_spans", "recertification_dates",
+    "rounds_between", "rounds_while_rating", "training_deadline",
+]
 
 CENTRAL = "central"
 """The ``site`` of a round or duty that belongs to a central pool."""
@@ -95,6 +103,16 @@ def monitoring_rounds(plan: Plan, pool: RaterPool) -> dict[str, tuple[Monitoring
         return {}
     return {span.site: rounds_between(pool.id, span.site, span.first_rating, span.last_rating, interval)
             for span in pool_spans(plan, pool)}
+
+
+def rounds_while_rating(rounds: tuple[MonitoringRound, ...]) -> tuple[MonitoringRound, ...]:
+    """The regular rounds, which fall while ratings are still being made.
+
+    A close-out round falls on the last rating day, when every rating has been made: it can
+    only find drift after the fact. A site whose rounds are all close-out rounds has no check
+    of its raters while data are collected.
+    """
+    return tuple(r for r in rounds if not r.close_out)
 
 
 def recertification_dates(certified: date, interval_months: int, until: date) -> tuple[date, ...]:
