@@ -553,7 +553,7 @@ class EvidencePoint:
 def _evidence_point(plan: Plan, endpoint: Endpoint, effect: float, common: dict[str, Any]) -> EvidencePoint | None:
     """The N the same comparison needs at the reliability the plan's own evidence supports for
     the way the endpoint is rated (the figure `power/unadjusted-for-reliability` checks)."""
-    from protolint.rules.evidence_fit import trial_reliability
+    from protolint.plan.reliability import trial_reliability
     from protolint.stats import SolverError, sample_size_two_group
 
     expected = trial_reliability(plan, endpoint)
@@ -574,12 +574,12 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
 
     Uses the classical-test-theory convention (observed d = d·√ρ, DESIGN section 5). An effect
     the plan states as observed in a previous trial is first brought to the true-score scale
-    exactly as the sample-size rule does (``rules.evidence_fit.true_effect_size``).
+    exactly as the sample-size rule does (``plan.reliability.true_effect_size``).
     """
     from protolint.render.charts import SampleSizeCurve, reliability_grid, sample_size_chart
     from protolint.stats import SolverError, sample_size_two_group
 
-    from protolint.rules.evidence_fit import trial_reliability, true_effect_size
+    from protolint.plan.reliability import trial_reliability, true_effect_size
 
     spec = plan.sample_size
     if spec is None:

@@ -10,7 +10,7 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan
-from protolint.rules.evidence_fit import (
+from protolint.plan.reliability import (
     CORRELATIONS,
     KAPPAS,
     REPEATED_TYPES,
@@ -20,8 +20,8 @@ from protolint.rules.evidence_fit import (
     icc_form,
     ratings_averaged,
     trial_ratings,
-    unique,
 )
+from protolint.rules._working import unique
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
@@ -163,7 +163,7 @@ def average_icc_for_single_rating(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
 
     **Fails**: `coefficient: ICC(2,k)`, `averaged_over: 2`, `value: 0.88` with one rater per assessment (single-rating value 0.786).
     """
-    from protolint.rules._working import spearman_brown
+    from protolint.plan.formulas import spearman_brown
 
     def hits() -> Iterator[Hit]:
         for instrument, evidence, endpoints in evidence_pairs(plan):
@@ -196,7 +196,7 @@ def average_icc_for_single_rating(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
 
 
 def single_from(value: float, k: int) -> float:
-    from protolint.rules._working import single_from_average
+    from protolint.plan.formulas import single_from_average
 
     return single_from_average(value, k)
 

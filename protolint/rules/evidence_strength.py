@@ -13,7 +13,7 @@ from typing import Iterator
 
 from protolint.findings import Severity
 from protolint.plan.model import Endpoint, Evidence, Instrument, Plan
-from protolint.rules.evidence_fit import (
+from protolint.plan.reliability import (
     REPEATED_TYPES,
     evidence_pairs,
     fitting_evidence,
@@ -24,8 +24,8 @@ from protolint.rules.evidence_fit import (
     single_rating_value,
     trial_ratings,
     trial_reliability,
-    unique,
 )
+from protolint.rules._working import unique
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
@@ -144,7 +144,7 @@ def lower_bound_below_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: `value: 0.80, ci: [0.55, 0.91]` for a group comparison.
     """
-    from protolint.rules._working import single_from_average, spearman_brown
+    from protolint.plan.formulas import single_from_average, spearman_brown
 
     def hits() -> Iterator[Hit]:
         for endpoint in plan.endpoints:
@@ -191,7 +191,7 @@ def study_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: ICC(2,1) = 0.80 from 12 subjects and 2 raters (width ≈ 0.43; about 28 subjects needed for 0.30).
     """
-    from protolint.rules._working import bonett_subjects, bonett_width
+    from protolint.plan.formulas import bonett_subjects, bonett_width
 
     min_subjects = int(ctx.thresholds["min_subjects"])
     max_width = float(ctx.thresholds["max_ci_width"])
@@ -252,7 +252,7 @@ def error_exceeds_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
                       f"endpoint {endpoint.id} applies cut-offs to {instrument.id} scores but its measurement error is unknown; "
                       "give the instrument's score_sd or the evidence's sem", severity=Severity.NOTE)
             continue
-        from protolint.rules._working import Z95_ROUNDED, smallest_detectable_change
+        from protolint.plan.formulas import Z95_ROUNDED, smallest_detectable_change
 
         sdc = smallest_detectable_change(sem_value)
         for index, cutoff in enumerate(endpoint.use.thresholds):
@@ -275,7 +275,7 @@ def error_exceeds_threshold(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
 
 def _sem_for(instrument: Instrument, found: object) -> tuple[float | None, str]:
-    from protolint.rules._working import sem
+    from protolint.plan.formulas import sem
 
     if found is not None and instrument.score_sd is not None:
         reliability = found.reliability  # type: ignore[attr-defined]

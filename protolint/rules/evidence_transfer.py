@@ -10,7 +10,8 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Endpoint, Evidence, Instrument, Plan
-from protolint.rules.evidence_fit import REPEATED_TYPES, evidence_pairs, same_text, unique
+from protolint.plan.reliability import REPEATED_TYPES, evidence_pairs
+from protolint.rules._working import same_text, unique
 from protolint.rules._working import fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite

@@ -11,7 +11,7 @@ from __future__ import annotations
 from typing import Iterator
 
 from protolint.plan.model import Plan
-from protolint.rules.evidence_fit import individual_use, trial_reliability, true_effect_size
+from protolint.plan.reliability import individual_use, trial_reliability, true_effect_size
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
@@ -77,7 +77,7 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: the same with 128 stated (enough only at perfect reliability; 160 needed).
     """
-    from protolint.rules._working import approximate_power, enrolled, n_per_group
+    from protolint.plan.formulas import approximate_power, enrolled, n_per_group
 
     size = plan.sample_size
     if size is None:
@@ -148,7 +148,7 @@ def fewer_raters_than_needed(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: r₁ = 0.60, one rater, target 0.80 → 3 raters needed (reaching 0.818).
     """
-    from protolint.rules._working import raters_needed, spearman_brown
+    from protolint.plan.formulas import raters_needed, spearman_brown
 
     for endpoint in plan.endpoints:
         found = trial_reliability(plan, endpoint)

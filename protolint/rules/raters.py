@@ -282,8 +282,9 @@ def certification_laxer_than_planned(plan: Plan, ctx: RuleContext) -> Iterator[H
 
     **Fails**: pass mark ICC(2,1) ≥ 0.50, sample size assuming 0.85 with one rater per assessment.
     """
-    from protolint.rules._working import PLANNING_AID, fmt, single_from_average
-    from protolint.rules.evidence_fit import trial_ratings
+    from protolint.plan.formulas import single_from_average
+    from protolint.rules._working import PLANNING_AID, fmt
+    from protolint.plan.reliability import trial_ratings
 
     size = plan.sample_size
     if size is None or size.assumed_reliability is None or not 0.0 < size.assumed_reliability < 1.0:

@@ -85,7 +85,7 @@ def certification_too_small(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: 4 cases at an expected ICC of 0.80 (width ≈ 0.81; 18 cases reach 0.40).
     """
-    from protolint.rules._working import bonett_subjects, bonett_width
+    from protolint.plan.formulas import bonett_subjects, bonett_width
 
     min_cases = int(ctx.thresholds["min_cases"])
     max_width = float(ctx.thresholds["max_ci_width"])
@@ -203,7 +203,7 @@ def no_lead_time(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     **Fails**: `days_before_first_rating: 0`; or a rater certified 2026-08-28 with first rating 2026-09-01 and 14 days required.
     """
     min_lead = int(ctx.thresholds["min_lead_days"])
-    for pool in _people_pools(plan):
+    for pool in plan.people_pools():
         training = pool.training
         lead = training.days_before_first_rating if training else None
         if training is not None and lead is not None and lead < min_lead:

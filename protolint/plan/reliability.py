@@ -1,18 +1,34 @@
-"""What a reliability evidence record says, and how it applies to the way the trial rates.
+"""The reliability the trial can expect: which evidence fits, and how it carries to the trial.
 
-Shared by the evidence, power and training rules so that they agree on which evidence counts,
-which ICC form it is, and what reliability the trial can expect.
+A derived fact of the plan, shared by the evidence and power rules, the binder's sample-size
+appendix and the analysis commands, so that they agree on which evidence counts, which ICC
+form it quotes, what one rating is worth and what the trial's raters x occasions give:
+
+1. fitting evidence: the evidence type that shows reproducibility for the instrument
+   (inter-rater for scores made by people, test-retest otherwise) with a coefficient that
+   suits the scale (:func:`fitting_evidence`);
+2. single-rating value: an average-of-k ICC stepped down to one rating by Spearman-Brown
+   (:func:`single_rating_value`);
+3. the least favourable fitting record, stepped up by Spearman-Brown to the independent
+   ratings the endpoint averages (:func:`trial_reliability`);
+4. the true-score effect size behind the plan's stated effect (:func:`true_effect_size`).
 """
 
 from __future__ import annotations
 
 import re
 from dataclasses import dataclass
-from typing import Iterable, Iterator
+from typing import Iterator
 
+from protolint.plan.formulas import single_from_average, spearman_brown
 from protolint.plan.model import Endpoint, Evidence, Instrument, Plan, SampleSize
-from protolint.rules._working import single_from_average, spearman_brown
-from protolint.rules.registry import Hit
+
+__all__ = [
+    "CORRELATIONS", "KAPPAS", "REPEATED_TYPES", "UNWEIGHTED_KAPPAS", "WEIGHTED_KAPPAS", "IccForm", "TrialReliability",
+    "TrueEffect", "evidence_pairs", "fitting_evidence", "fitting_type", "icc_form", "individual_use",
+    "ratings_averaged", "single_rating_value", "trial_ratings", "trial_reliability", "true_effect_size",
+    "usable_coefficient",
+]
 
 _ICC = re.compile(r"^ICC\((?P<model>[123AC]),(?P<type>1|k)\)$")
 
@@ -42,10 +58,6 @@ def icc_form(coefficient: str) -> IccForm | None:
     if match is None:
         return None
     return IccForm(match["model"], match["type"] == "k")
-
-
-def is_icc(coefficient: str) -> bool:
-    return coefficient == "ICC" or icc_form(coefficient) is not None
 
 
 def fitting_type(instrument: Instrument) -> str:
@@ -98,10 +110,16 @@ def trial_ratings(endpoint: Endpoint) -> int:
 
 @dataclass(frozen=True)
 class TrialReliability:
+    """The reliability the plan's evidence supports for one endpoint as the trial rates it."""
+
     evidence: Evidence
+    """The least favourable fitting record, the one the figure rests on."""
     single: float
+    """Its single-rating value."""
     ratings: int
+    """Independent ratings averaged per assessment in the trial (raters x occasions)."""
     reliability: float
+    """Spearman-Brown of ``single`` to ``ratings``."""
 
 
 def trial_reliability(plan: Plan, endpoint: Endpoint) -> TrialReliability | None:
@@ -161,16 +179,3 @@ def individual_use(endpoint: Endpoint) -> bool:
     """Whether scores decide something about one participant."""
     use = endpoint.use
     return use is not None and (bool(use.individual_decisions) or bool(use.thresholds))
-
-
-def unique(hits: Iterable[Hit]) -> Iterator[Hit]:
-    """Drop repeated hits at the same place (two endpoints sharing one instrument)."""
-    seen: set[tuple[object, ...]] = set()
-    for hit in hits:
-        if hit.path not in seen:
-            seen.add(hit.path)
-            yield hit
-
-
-def same_text(a: str, b: str) -> bool:
-    return " ".join(a.lower().split()) == " ".join(b.lower().split())
