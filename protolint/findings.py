@@ -4,7 +4,10 @@ from __future__ import annotations
 
 import enum
 from dataclasses import dataclass, field
-from typing import Any, Mapping
+from typing import TYPE_CHECKING, Any, Mapping
+
+if TYPE_CHECKING:  # for annotations only: the plan layer builds on this module
+    from protolint.plan.source import LoadedSource
 
 
 class Severity(enum.IntEnum):
@@ -67,8 +70,28 @@ class Finding:
     def family(self) -> str:
         return self.rule.split("/", 1)[0]
 
-    def sort_key(self) -> tuple:
+    def sort_key(self) -> tuple[str, int, int, str, str]:
+        """The key of :data:`FINDING_ORDER`."""
         return (self.file, self.location.line, self.location.column, self.rule, self.message)
+
+
+FINDING_ORDER = ("file", "line", "column", "rule", "message")
+"""The one order findings are reported in, everywhere: by file, then by place in the file
+(so a reader walks the plan top to bottom), then by rule id and message for a stable order of
+findings at the same place. :class:`PlanResult` keeps its findings in this order."""
+
+
+def finding_at(source: LoadedSource, path: tuple[str | int, ...], rule: str, severity: Severity, message: str, *,
+               at_key: bool = False, facts: Mapping[str, Any] | None = None) -> Finding:
+    """The one way a finding is made: located through the source map (the nearest written
+    ancestor when ``path`` itself was not written) and given its RFC 6901 JSON Pointer.
+
+    Schema, reference, rule and waiver findings all come from here, so the line, column and
+    pointer of a finding never depend on which step found it.
+    """
+    return Finding(rule=rule, severity=severity, message=message, file=source.file,
+                   location=source.source_map.locate(path, at_key=at_key), pointer=pointer_from_path(path),
+                   facts=dict(facts) if facts else {})
 
 
 @dataclass(frozen=True)
@@ -81,6 +104,13 @@ class PlanResult:
     rules_run: tuple[str, ...]
     """Ids of every rule that was evaluated for this plan (for per-rule reports such as JUnit)."""
     as_of: str | None = None
+    rules_not_run: tuple[str, ...] = ()
+    """Enabled rules that could not run on this plan (see ``not_run_reason``)."""
+    not_run_reason: str | None = None
+
+    def __post_init__(self) -> None:
+        # Sorted here, once, whoever builds the result: every report shows FINDING_ORDER.
+        object.__setattr__(self, "findings", tuple(sorted(self.findings, key=Finding.sort_key)))
 
 
 @dataclass(frozen=True)

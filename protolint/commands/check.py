@@ -8,11 +8,8 @@ from datetime import date
 
 import click
 
-from protolint import __version__
 from protolint.commands.base import ProtolintCommand
-from protolint.errors import ProtolintError
-from protolint.findings import CheckResult, PlanResult, Severity
-
+from protolint.findings import Severity
 from protolint.report import FORMATS
 
 
@@ -49,33 +46,15 @@ def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | 
       protolint check plans/*.yaml --format sarif --output protolint.sarif
       protolint check plan.yaml --as-of 2027-01-01 --fail-on warning
     """
-    from protolint.plan import load_plan, read_source
+    from protolint.pipeline import check_files, rules_run
     from protolint.report import render_report
-    from protolint.rules.engine import check_loaded
-    from protolint.rules.policy import DEFAULT_POLICY, read_policy
-    from protolint.rules.registry import all_rules
 
-    rules = all_rules()
-    metas = {rule.meta.id: rule.meta for rule in rules}
-    chosen_policy = read_policy(policy, metas) if policy else DEFAULT_POLICY
-
-    results: list[PlanResult] = []
-    unreadable = 0
-    for file in plans:
-        try:
-            source = read_source(file)
-        except ProtolintError as error:
-            error.show()
-            unreadable += 1
-            continue
-        loaded = load_plan(source, metas)
-        results.append(check_loaded(loaded, chosen_policy, as_of, rules))
-
-    result = CheckResult(plans=tuple(results), tool_version=__version__)
-    ran = sorted({rule_id for plan in results for rule_id in plan.rules_run})
+    # An unreadable plan or policy raises LocatedError before anything is printed: on exit 2
+    # the one located message is all the output.
+    result = check_files(plans, policy, as_of)
     if color is None:
         color = output is None and sys.stdout.isatty() and not os.environ.get("NO_COLOR")
-    report = render_report(fmt, result, [metas[i] for i in ran], color=color)
+    report = render_report(fmt, result, rules_run(result), color=color)
     if output:
         from protolint.commands._shared import emit
         from protolint.report._common import counts_phrase
@@ -84,9 +63,7 @@ def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | 
     else:
         click.echo(report, nl=not report.endswith("\n"), color=color)
 
-    if unreadable:
-        sys.exit(2)
     if fail_on != "never":
         level = Severity.parse(fail_on)
-        if any(f.severity >= level and not f.waived for plan in results for f in plan.findings):
+        if any(f.severity >= level and not f.waived for plan in result.plans for f in plan.findings):
             sys.exit(1)

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import difflib
 import json
 import shutil
 import textwrap
@@ -13,7 +12,7 @@ import click
 
 from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
-from protolint.rules.registry import RuleMeta, iter_metas
+from protolint.rules.registry import RuleMeta, iter_metas, similar_rule_ids
 
 
 def rule_as_dict(meta: RuleMeta) -> dict[str, Any]:
@@ -36,13 +35,7 @@ def rule_as_dict(meta: RuleMeta) -> dict[str, Any]:
 
 def suggestions(rule_id: str, known: Sequence[str]) -> list[str]:
     """Close matches on the full id, or on the name alone (people often omit the family)."""
-    close = difflib.get_close_matches(rule_id, known, n=3, cutoff=0.6)
-    wanted_name = rule_id.rsplit("/", 1)[-1]
-    by_name = {rid.split("/", 1)[-1]: rid for rid in known}
-    for name in difflib.get_close_matches(wanted_name, list(by_name), n=3, cutoff=0.75):
-        if by_name[name] not in close:
-            close.append(by_name[name])
-    return close[:3]
+    return similar_rule_ids(rule_id, known)
 
 
 def find_rule(rule_id: str, metas: Sequence[RuleMeta]) -> RuleMeta:

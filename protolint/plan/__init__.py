@@ -1,12 +1,18 @@
-"""Plan loading: bytes -> located tree -> schema and reference findings -> typed plan."""
+"""Plan loading: bytes -> located tree -> schema and reference findings -> typed plan.
+
+The derived facts of a plan live beside the loader, as pure functions of the typed model:
+``timeline`` (rating dates), ``monitoring`` (monitoring rounds, recertification dates, rating
+spans per pool and site), ``reliability`` (the reliability the trial can expect from its
+evidence) and ``formulas`` (the closed-form formulas applied to plan numbers). Nothing in this
+package imports the rules, the documents or the commands.
+"""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path as FilePath
-from typing import Iterable
 
-from protolint.errors import LocatedError, ProtolintError
+from protolint.errors import LocatedError
 from protolint.findings import Finding
 from protolint.plan.model import Plan, build_plan
 from protolint.plan.references import reference_findings
@@ -20,12 +26,16 @@ __all__ = ["LoadedPlan", "Plan", "load_plan", "read_plan_file", "read_source"]
 class LoadedPlan:
     source: LoadedSource
     problems: tuple[Finding, ...]
-    """Schema and reference findings; when there are any, ``plan`` is None."""
+    """Schema and reference findings, in the order of the file; when there are any, ``plan`` is None."""
     plan: Plan | None
 
 
 def read_source(file: str) -> LoadedSource:
-    """Read a plan file from disk (or ``-`` for standard input) into a located tree."""
+    """Read a plan file from disk (or ``-`` for standard input) into a located tree.
+
+    A file that cannot be read at all is reported at line 0, column 0 (the file as a whole),
+    so every exit-2 message has the ``file:line:column: message`` form.
+    """
     try:
         if file == "-":
             import sys
@@ -34,33 +44,30 @@ def read_source(file: str) -> LoadedSource:
         else:
             raw = FilePath(file).read_bytes()
     except FileNotFoundError:
-        raise ProtolintError(f"{file}: no such file") from None
+        raise LocatedError(file, 0, 0, "no such file") from None
     except IsADirectoryError:
-        raise ProtolintError(f"{file}: is a folder, not a plan file") from None
+        raise LocatedError(file, 0, 0, "is a folder, not a plan file") from None
     except OSError as error:
-        raise ProtolintError(f"{file}: cannot read: {error.strerror}") from None
+        raise LocatedError(file, 0, 0, f"cannot read: {error.strerror}") from None
     return load_source(raw, file)
 
 
-def load_plan(source: LoadedSource, known_rule_ids: Iterable[str]) -> LoadedPlan:
-    problems = schema_findings(source)
-    if not problems:
-        problems = reference_findings(source, known_rule_ids)
+def load_plan(source: LoadedSource) -> LoadedPlan:
+    """Validate ``source`` and build the typed plan when nothing is wrong with it.
+
+    Reference problems are looked for even when the schema finds problems, so one run shows
+    both; the typed plan is built only from data with neither.
+    """
+    problems = (*schema_findings(source), *reference_findings(source))
     if problems:
-        return LoadedPlan(source, tuple(problems), None)
+        return LoadedPlan(source, tuple(sorted(problems, key=Finding.sort_key)), None)
     return LoadedPlan(source, (), build_plan(source.data))
 
 
-def read_plan_file(file: str, known_rule_ids: Iterable[str] = ()) -> LoadedPlan:
-    """Convenience for documents and tests: read, validate and build; raise on any problem."""
-    loaded = load_plan(read_source(file), known_rule_ids or _all_rule_ids())
+def read_plan_file(file: str) -> LoadedPlan:
+    """For documents and tests: read, validate and build; raise the first problem as an error."""
+    loaded = load_plan(read_source(file))
     if loaded.problems:
         first = loaded.problems[0]
         raise LocatedError(file, first.location.line, first.location.column, first.message)
     return loaded
-
-
-def _all_rule_ids() -> list[str]:
-    from protolint.rules.registry import all_rules
-
-    return [rule.meta.id for rule in all_rules()]

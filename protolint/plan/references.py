@@ -1,16 +1,17 @@
 """Cross-references inside a plan: ids must be unique and every reference must resolve.
 
-Runs on plan data that already matches the schema, so the shapes are known.
+Runs on the data whether or not it matches the schema (a plan with a schema problem still
+hears about its dangling references), so it looks only at values of the expected kind.
+Waiver rule ids are checked by the rule engine, which knows the rules.
 """
 
 from __future__ import annotations
 
-import difflib
-from typing import Any, Iterable, Iterator
+from typing import Any, Iterator
 
-from protolint.findings import Finding, Severity, pointer_from_path
-from protolint.plan.schema import locate
+from protolint.findings import Finding, Severity, finding_at
 from protolint.plan.source import LoadedSource, Path
+from protolint.suggest import did_you_mean
 
 # (list path, what the ids name). A path segment "*" walks every item of a list.
 ID_LISTS: tuple[tuple[tuple[str, ...], str], ...] = (
@@ -56,20 +57,19 @@ def walk(data: Any, pattern: tuple[str, ...], prefix: Path = ()) -> Iterator[tup
         yield from walk(data[head], rest, prefix + (head,))
 
 
-def reference_findings(source: LoadedSource, known_rule_ids: Iterable[str]) -> list[Finding]:
+def reference_findings(source: LoadedSource) -> list[Finding]:
     data = source.data
     findings: list[Finding] = []
 
     def add(rule: str, path: Path, message: str) -> None:
-        findings.append(Finding(rule=rule, severity=Severity.ERROR, message=message, file=source.file,
-                                location=locate(source.source_map, path), pointer=pointer_from_path(path)))
+        findings.append(finding_at(source, path, rule, Severity.ERROR, message))
 
     for pattern, noun in ID_LISTS:
         for list_path, items in walk(data, pattern):
             seen: dict[str, int] = {}
-            for index, item in enumerate(items or []):
+            for index, item in enumerate(items if isinstance(items, list) else []):
                 ident = item.get("id") if isinstance(item, dict) else None
-                if ident is None:
+                if not isinstance(ident, str):
                     continue
                 if ident in seen:
                     add("schema/duplicate-id", list_path + (index, "id"),
@@ -82,30 +82,22 @@ def reference_findings(source: LoadedSource, known_rule_ids: Iterable[str]) -> l
         noun = dict(ID_LISTS)[target]
         for path, value in walk(data, ref_pattern):
             if isinstance(value, str) and value not in ids:
-                hint = _suggest(value, ids)
+                hint = did_you_mean(value, ids)
                 add("schema/unknown-reference", path,
                     f"{value!r} is not the id of any {noun} in the plan{hint}")
 
-    rule_ids = set(known_rule_ids)
     for path, waiver in walk(data, ("waivers", "*")):
-        rule = waiver.get("rule")
-        if rule not in rule_ids:
-            add("schema/unknown-reference", path + ("rule",),
-                f"waiver names rule {rule!r}, which does not exist{_suggest(rule, sorted(rule_ids))}")
-        target = waiver.get("target")
-        if target and not _pointer_exists(data, target):
+        pointer = waiver.get("target") if isinstance(waiver, dict) else None
+        if isinstance(pointer, str) and pointer and not _pointer_exists(data, pointer):
             add("schema/unknown-reference", path + ("target",),
-                f"waiver target {target!r} points at nothing in this plan")
+                f"waiver target {pointer!r} points at nothing in this plan")
     return findings
 
 
 def _ids(data: Any, target: tuple[str, ...]) -> set[str]:
-    return {item["id"] for _, items in walk(data, target) for item in (items or []) if isinstance(item, dict) and "id" in item}
+    return {item["id"] for _, items in walk(data, target) if isinstance(items, list)
+            for item in items if isinstance(item, dict) and isinstance(item.get("id"), str)}
 
-
-def _suggest(value: str, options: Iterable[str]) -> str:
-    close = difflib.get_close_matches(value, list(options), n=1, cutoff=0.6)
-    return f" (did you mean {close[0]!r}?)" if close else ""
 
 
 def parse_pointer(pointer: str) -> list[str]:

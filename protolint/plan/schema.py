@@ -6,13 +6,13 @@ expected, never the validator's internals.
 
 from __future__ import annotations
 
-import difflib
 from functools import lru_cache
 from typing import Any
 
-from protolint.findings import Finding, Location, Severity, pointer_from_path
-from protolint.plan.source import LoadedSource, Path, SourceMap
+from protolint.findings import Finding, Severity, finding_at
+from protolint.plan.source import LoadedSource, Path
 from protolint.resources import load_schema
+from protolint.suggest import did_you_mean
 
 PLAN_SCHEMA = "plan.schema.json"
 
@@ -62,32 +62,15 @@ def _inline_local_refs(schema: dict[str, Any]) -> dict[str, Any]:
     return inline(schema)
 
 
-def locate(source_map: SourceMap, path: Path, *, at_key: bool = False) -> Location:
-    span = source_map.span(path)
-    if at_key:
-        return Location(span.key_line, span.key_column)
-    return Location(span.value_line, span.value_column, span.end_line, span.end_column)
-
-
 def schema_findings(source: LoadedSource, schema_name: str = PLAN_SCHEMA) -> list[Finding]:
-    validator = validator_for(schema_name)
-    findings = [
-        _finding(error, source) for error in validator.iter_errors(source.data)
-    ]
-    return sorted(findings, key=Finding.sort_key)
+    """One located finding per schema violation (in the validator's order; results sort them)."""
+    return [_finding(error, source) for error in validator_for(schema_name).iter_errors(source.data)]
 
 
 def _finding(error: Any, source: LoadedSource) -> Finding:
     path: Path = tuple(error.absolute_path)
     rule, message, where, at_key = _describe(error, path)
-    return Finding(
-        rule=rule,
-        severity=Severity.ERROR,
-        message=message,
-        file=source.file,
-        location=locate(source.source_map, where, at_key=at_key),
-        pointer=pointer_from_path(where),
-    )
+    return finding_at(source, where, rule, Severity.ERROR, message, at_key=at_key)
 
 
 def _name(path: Path) -> str:
@@ -117,7 +100,7 @@ def _describe(error: Any, path: Path) -> tuple[str, str, Path, bool]:
         allowed = sorted(schema.get("properties", {}))
         extras = sorted(set(instance) - set(allowed)) if isinstance(instance, dict) else []
         key = extras[0] if extras else ""
-        hint = _suggest(key, allowed)
+        hint = did_you_mean(key, allowed)
         where = f" in {_name(path)}" if path else " at the top level"
         message = f"unknown key {key!r}{where}{hint}"
         if len(extras) > 1:
@@ -130,7 +113,7 @@ def _describe(error: Any, path: Path) -> tuple[str, str, Path, bool]:
         return "schema/wrong-type", f"{_name(path)} should be {words}, not {_show(instance)}", path, False
     if kind == "enum":
         options = [str(o) for o in schema["enum"]]
-        hint = _suggest(str(instance), options)
+        hint = did_you_mean(str(instance), options)
         listing = ", ".join(options) if len(options) <= 12 else ", ".join(options[:12]) + ", …"
         return "schema/value-not-allowed", f"{_name(path)} is {_show(instance)}; expected one of: {listing}{hint}", path, False
     if kind == "const":
@@ -170,8 +153,3 @@ def _quoted_key(message: str) -> str:
     if message.startswith("'") and "'" in message[1:]:
         return message[1 : message.index("'", 1)]
     return message
-
-
-def _suggest(value: str, options: list[str]) -> str:
-    close = difflib.get_close_matches(value, options, n=1, cutoff=0.6)
-    return f" (did you mean {close[0]!r}?)" if close else ""

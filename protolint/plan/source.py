@@ -24,6 +24,7 @@ from typing import Any
 import yaml
 
 from protolint.errors import LocatedError
+from protolint.findings import Location
 
 MAX_BYTES = 2 * 1024 * 1024
 MAX_DEPTH = 64
@@ -87,6 +88,14 @@ class SourceMap:
             probe = probe[:-1]
         return self.spans.get(probe) or Span(1, 1, 1, 1, 1, 1)
 
+    def locate(self, path: Path, *, at_key: bool = False) -> Location:
+        """Where a finding at ``path`` is reported: its value (with the value's end), or its key
+        (``at_key``: an unknown or missing key is a problem of the key, not of its value)."""
+        span = self.span(path)
+        if at_key:
+            return Location(span.key_line, span.key_column)
+        return Location(span.value_line, span.value_column, span.end_line, span.end_column)
+
 
 @dataclass(frozen=True)
 class LoadedSource:
@@ -123,7 +132,12 @@ def load_source(raw: bytes, file: str) -> LoadedSource:
         root = yaml.compose(text, Loader=_LOADER)
     except yaml.MarkedYAMLError as error:
         raise _yaml_error(error, text, file) from None
-    except yaml.YAMLError as error:  # ReaderError and friends carry only a position
+    except yaml.reader.ReaderError as error:  # a character YAML does not allow; carries its position
+        line, column = _line_column(text[: error.position])
+        char = error.character if isinstance(error.character, str) else chr(error.character)
+        raise LocatedError(file, line, column, f"the control character U+{ord(char):04X} is not allowed in a plan; "
+                                               "remove it (YAML allows tabs and line breaks only)") from None
+    except yaml.YAMLError as error:
         raise LocatedError(file, 1, 1, f"not valid YAML: {error}") from None
     except RecursionError:
         raise LocatedError(file, 1, 1, f"nesting is deeper than {MAX_DEPTH} levels") from None

@@ -642,9 +642,9 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
 
 
 def check_appendix(loaded: LoadedPlan, as_of: date) -> CheckAppendix:
-    from protolint.rules.engine import check_loaded
+    from protolint.pipeline import check_source
 
-    result = check_loaded(loaded, as_of=as_of)
+    result = check_source(loaded.source, as_of=as_of)
     rows = [FindingRow(f.severity.label, f.rule, f"line {f.location.line}, column {f.location.column}",
                        f.message, f.waiver_reason) for f in result.findings]
     findings = tuple(r for r, f in zip(rows, result.findings) if not f.waived)

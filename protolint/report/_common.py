@@ -8,6 +8,9 @@ import re
 from datetime import date, datetime
 from typing import TYPE_CHECKING, Any, Iterable, Sequence
 
+from protolint.errors import escape_control
+from protolint.errors import one_line as one_line  # re-exported for the formatters
+
 if TYPE_CHECKING:
     from protolint.findings import Finding, PlanResult
     from protolint.rules.registry import RuleMeta
@@ -18,10 +21,6 @@ FINGERPRINT_KEY = "protolintFinding/v1"
 # the finding is still "the same finding", so they are masked before hashing.
 _NUMBER = re.compile(r"[-+]?\d+(?:[.,]\d+)*(?:[eE][-+]?\d+)?")
 _SPACE = re.compile(r"\s+")
-
-# C0/C1 controls, DEL and the Unicode line/paragraph separators. Plan-derived text may contain
-# them; printed raw they could move the cursor, recolour a terminal or split a CI log line.
-_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029]")
 
 # Characters XML 1.0 cannot carry at all, not even as character references.
 _XML_INVALID = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff\ud800-\udfff]")
@@ -85,24 +84,9 @@ def fingerprints(findings: Iterable[Finding]) -> list[str]:
     return out
 
 
-def one_line(text: str) -> str:
-    """Text safe to print on a single line: control characters shown as escapes."""
-    return _CONTROL.sub(_escape_control, text)
-
-
 def xml_safe(text: str) -> str:
     """Text XML 1.0 can carry (ElementTree escapes ``<&>"`` itself but not these)."""
-    return _XML_INVALID.sub(_escape_control, text)
-
-
-def _escape_control(match: re.Match[str]) -> str:
-    char = match.group(0)
-    if char == "\n":
-        return "\\n"
-    if char == "\t":
-        return "\\t"
-    code = ord(char)
-    return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
+    return _XML_INVALID.sub(escape_control, text)
 
 
 def json_safe(value: Any) -> Any:

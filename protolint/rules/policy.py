@@ -11,9 +11,9 @@ from dataclasses import dataclass, field
 from pathlib import Path as FilePath
 from typing import Mapping
 
-from protolint.errors import LocatedError, ProtolintError
+from protolint.errors import LocatedError
 from protolint.findings import Severity
-from protolint.plan.schema import locate, schema_findings
+from protolint.plan.schema import schema_findings
 from protolint.plan.source import load_source
 from protolint.rules.registry import RuleMeta
 
@@ -46,18 +46,18 @@ def read_policy(file: str, rules: Mapping[str, RuleMeta]) -> Policy:
     try:
         raw = FilePath(file).read_bytes()
     except OSError as error:
-        raise ProtolintError(f"{file}: cannot read the policy file: {error.strerror}") from None
+        raise LocatedError(file, 0, 0, f"cannot read the policy file: {error.strerror}") from None
     source = load_source(raw, file)
     problems = schema_findings(source, POLICY_SCHEMA)
     if problems:
-        first = problems[0]
+        first = min(problems, key=lambda finding: finding.sort_key())
         raise LocatedError(file, first.location.line, first.location.column, f"policy: {first.message}")
 
     disabled: set[str] = set()
     severities: dict[str, Severity] = {}
     thresholds: dict[str, dict[str, float]] = {}
     for rule_id, settings in (source.data.get("rules") or {}).items():
-        where = locate(source.source_map, ("rules", rule_id), at_key=True)
+        where = source.source_map.locate(("rules", rule_id), at_key=True)
         meta = rules.get(rule_id)
         if meta is None:
             raise LocatedError(file, where.line, where.column, f"policy names rule {rule_id!r}, which does not exist")
@@ -66,7 +66,7 @@ def read_policy(file: str, rules: Mapping[str, RuleMeta]) -> Policy:
         if "severity" in settings:
             severities[rule_id] = Severity.parse(settings["severity"])
         for name, value in (settings.get("thresholds") or {}).items():
-            spot = locate(source.source_map, ("rules", rule_id, "thresholds", name), at_key=True)
+            spot = source.source_map.locate(("rules", rule_id, "thresholds", name), at_key=True)
             try:
                 threshold = meta.threshold(name)
             except KeyError:

@@ -153,6 +153,20 @@ def get_rule(rule_id: str) -> Rule:
         raise KeyError(rule_id) from None
 
 
+def similar_rule_ids(rule_id: str, known: Iterable[str] | None = None, n: int = 3) -> list[str]:
+    """Registered ids close to ``rule_id``: on the full id, or on the name alone (people often
+    omit the family), best first."""
+    from protolint.suggest import closest
+
+    ids = list(known) if known is not None else [registered.meta.id for registered in all_rules()]
+    close = closest(rule_id, ids, n=n)
+    by_name = {rid.split("/", 1)[-1]: rid for rid in ids}
+    for name in closest(rule_id.rsplit("/", 1)[-1], by_name, n=n, cutoff=0.75):
+        if by_name[name] not in close:
+            close.append(by_name[name])
+    return close[:n]
+
+
 def iter_metas() -> Iterator[RuleMeta]:
     for registered in all_rules():
         yield registered.meta

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 import os
 from pathlib import Path
 
@@ -147,6 +148,40 @@ def test_missing_file_exits_2(cli_process, tmp_path):
     assert result.returncode == 2 and "no such file" in result.stderr and "Traceback" not in result.stderr
 
 
+@pytest.mark.parametrize("fmt", ["text", "json", "sarif"])
+def test_exit_2_prints_the_located_message_and_nothing_else(cli_process, tmp_path, fmt):
+    # A file that does not exist is reported at line 0, column 0: the file as a whole.
+    missing = tmp_path / "nonexist.yaml"
+    result = cli_process("check", missing, "--format", fmt)
+    assert result.returncode == 2
+    assert result.stdout == ""
+    assert result.stderr == f"{missing}:0:0: no such file\n"
+
+
+def test_a_missing_policy_file_is_located_like_a_missing_plan(cli_process, tmp_path, starter_text):
+    plan = write(tmp_path, "p.yaml", starter_text)
+    result = cli_process("check", plan, "--policy", tmp_path / "none.yaml")
+    assert result.returncode == 2 and result.stdout == ""
+    assert result.stderr.startswith(f"{tmp_path / 'none.yaml'}:0:0: cannot read the policy file")
+
+
+def test_a_control_character_in_a_plan_gives_one_located_line(cli_process, tmp_path):
+    plan = write(tmp_path, "bell.yaml", 'format_version: 1\nplan_date: "a\x07b"\n')
+    result = cli_process("check", plan)
+    assert result.returncode == 2 and result.stdout == "" and "Traceback" not in result.stderr
+    [line] = result.stderr.splitlines()
+    # Line 2, column 14: the character itself (columns count from 1).
+    assert line == f"{plan}:2:14: the control character U+0007 is not allowed in a plan; remove it (YAML allows tabs and line breaks only)"
+
+
+def test_error_messages_never_span_lines() -> None:
+    from protolint.errors import LocatedError, ProtolintError
+
+    error = LocatedError("data.csv", 3, None, "cell 'a\nb\x1b[31m' is not a number")
+    assert error.format_message() == "data.csv:3:0: cell 'a\\nb\\x1b[31m' is not a number"
+    assert "\n" not in ProtolintError("one\ntwo").format_message()
+
+
 def test_bad_policy_exits_2(cli_process, tmp_path, starter_text):
     plan = write(tmp_path, "p.yaml", starter_text)
     policy = write(tmp_path, "policy.yaml", "format_version: 1\nrules:\n  nope/rule: {enabled: false}\n")
@@ -159,12 +194,19 @@ def test_bad_option_exits_2(cli_process, tmp_path, starter_text):
     assert cli_process("check", plan, "--format", "pdf").returncode == 2
 
 
-def test_one_unreadable_plan_does_not_hide_the_others(cli_process, tmp_path, starter_text):
+def test_an_unreadable_plan_stops_the_check_with_only_its_located_message(cli_process, tmp_path, starter_text):
+    # Exit 2 means the input could not be checked: no report (not even of the other plans) that
+    # a CI step could mistake for a result, and one `file:line:column:` line per unreadable file.
     good = write(tmp_path, "good.yaml", starter_text)
     bad = write(tmp_path, "bad.yaml", BAD_YAML)
-    result = cli_process("check", bad, good, "--format", "json")
+    missing = tmp_path / "missing.yaml"
+    result = cli_process("check", bad, good, missing, "--format", "json")
     assert result.returncode == 2
-    assert [p["file"] for p in json.loads(result.stdout)["plans"]] == [str(good)]
+    assert result.stdout == ""
+    lines = result.stderr.splitlines()
+    assert len(lines) == 2
+    assert re.match(rf"^{re.escape(str(bad))}:\d+:\d+: ", lines[0])
+    assert lines[1] == f"{missing}:0:0: no such file"
 
 
 def test_output_file_is_not_half_written_when_the_folder_is_missing_rights(cli_process, tmp_path, starter_text):

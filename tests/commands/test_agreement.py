@@ -126,15 +126,15 @@ def test_output_file_is_written_and_stdout_stays_empty(tmp_path: Path) -> None:
 
 
 BAD_FILES = {
-    "empty.csv": ("", ":1: the file is empty"),
-    "semicolons.csv": ("subject;a;b\n1;2;3\n2;3;4\n", ":1: the header is one field containing semicolons"),
-    "ragged.csv": ("subject,a,b\n1,2,3\n2,3\n", ":3: row has 2 field(s), the header has 3"),
-    "text.csv": ("subject,a,b\n1,2,3\n2,3,high\n", ":3: column 'b': 'high' is not a number (the scale is interval)"),
-    "one_rater.csv": ("subject,a\n1,2\n2,3\n", ":1: found 1 rater column(s)"),
-    "one_subject.csv": ("subject,a,b\n1,2,3\n", ":2: found 1 subject row(s); at least 2 are needed"),
-    "duplicate.csv": ("subject,a,b\n1,2,3\n1,3,4\n", ":3: subject '1' appears again (first on line 2)"),
-    "infinite.csv": ("subject,a,b\n1,2,inf\n2,3,4\n", ":2: column 'b': 'inf' is not a finite number"),
-    "empty_column.csv": ("subject,a,b\n1,2,\n2,3,\n", ":1: rater column 'b' has no values"),
+    "empty.csv": ("", ":1:0: the file is empty"),
+    "semicolons.csv": ("subject;a;b\n1;2;3\n2;3;4\n", ":1:0: the header is one field containing semicolons"),
+    "ragged.csv": ("subject,a,b\n1,2,3\n2,3\n", ":3:0: row has 2 field(s), the header has 3"),
+    "text.csv": ("subject,a,b\n1,2,3\n2,3,high\n", ":3:0: column 'b': 'high' is not a number (the scale is interval)"),
+    "one_rater.csv": ("subject,a\n1,2\n2,3\n", ":1:0: found 1 rater column(s)"),
+    "one_subject.csv": ("subject,a,b\n1,2,3\n", ":2:0: found 1 subject row(s); at least 2 are needed"),
+    "duplicate.csv": ("subject,a,b\n1,2,3\n1,3,4\n", ":3:0: subject '1' appears again (first on line 2)"),
+    "infinite.csv": ("subject,a,b\n1,2,inf\n2,3,4\n", ":2:0: column 'b': 'inf' is not a finite number"),
+    "empty_column.csv": ("subject,a,b\n1,2,\n2,3,\n", ":1:0: rater column 'b' has no values"),
     "quote.csv": ('subject,a,b\n1,"2,3\n', "malformed CSV"),
 }
 
@@ -155,7 +155,7 @@ def test_bad_csv_gives_located_error_and_exit_2(tmp_path: Path, name: str) -> No
 
 def test_missing_file_and_bad_options() -> None:
     code, _, err = run("no/such/file.csv")
-    assert code == 2 and "no/such/file.csv: no such file" in err
+    assert code == 2 and "no/such/file.csv:0:0: no such file" in err
     code, _, err = run(str(SHROUT_FLEISS), "--confidence", "1.5")
     assert code == 2 and "--confidence must be between 0 and 1" in err
     code, _, err = run(str(SHROUT_FLEISS), "--scale", "ratio")

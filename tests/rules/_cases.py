@@ -10,10 +10,7 @@ from pathlib import Path
 import yaml
 
 from protolint.findings import PlanResult
-from protolint.plan import load_plan
-from protolint.plan.source import load_source
-from protolint.rules.engine import check_loaded
-from protolint.rules.registry import all_rules
+from protolint.pipeline import check_text
 
 HERE = Path(__file__).parent
 CASES = HERE / "cases"
@@ -53,12 +50,12 @@ def build_case(rule_id: str, file: Path) -> Case:
 
 
 def run_text(text: str, name: str = "case.yaml", as_of: date | None = None) -> PlanResult:
-    source = load_source(text.encode("utf-8"), name)
-    loaded = load_plan(source, [r.meta.id for r in all_rules()])
-    if loaded.problems:
-        problems = "; ".join(f"{p.location.line}: {p.message}" for p in loaded.problems)
+    """The check pipeline's result for a case plan, which must load."""
+    result = check_text(text, name, as_of=as_of)
+    if result.rules_not_run:
+        problems = "; ".join(f"{p.location.line}: {p.message}" for p in result.findings if p.rule.startswith("schema/"))
         raise AssertionError(f"{name} does not load: {problems}")
-    return check_loaded(loaded, as_of=as_of)
+    return result
 
 
 def case_files() -> list[tuple[str, Path]]:

@@ -46,7 +46,7 @@ PLANS = _plans()
 
 def checklist_rows(text: str) -> dict[tuple[str, str], list[bool]]:
     """(pool label, site id) -> one entry per printed round row, True for a close-out row."""
-    loaded = load_plan(load_source(text.encode("utf-8"), "plan.yaml"), RULE_IDS)
+    loaded = load_plan(load_source(text.encode("utf-8"), "plan.yaml"))
     markdown = render("checklist", "markdown", loaded)
     rows: dict[tuple[str, str], list[bool]] = defaultdict(list)
     site = pool = ""
@@ -63,7 +63,7 @@ def checklist_rows(text: str) -> dict[tuple[str, str], list[bool]]:
 @pytest.mark.parametrize("name,text", PLANS, ids=[name for name, _ in PLANS])
 def test_rules_count_the_checklist_rounds(name: str, text: str) -> None:
     result = run_text(text, name)
-    plan = load_plan(load_source(text.encode("utf-8"), name), RULE_IDS).plan
+    plan = load_plan(load_source(text.encode("utf-8"), name)).plan
     assert plan is not None
     rows = checklist_rows(text)
     label = {pool.id: pool.label for pool in plan.rater_pools}

@@ -2,7 +2,7 @@
 
 A case is the clean base plan with a few text edits (``cases/<family>/<name>/{pass,fail}.yaml``);
 a line that must be reported carries ``# expect: family/name``. The plans are loaded through
-the public API (``load_plan`` and ``check_loaded``), as the command line does.
+the check pipeline (``protolint.pipeline.check_text``), as the command line does.
 """
 
 from __future__ import annotations

@@ -1,0 +1,101 @@
+"""The one check pipeline: read -> validate -> resolve references -> build -> rules -> policy and waivers.
+
+``protolint check``, the binder's check appendix and the rule-case tests all call these
+functions, so a plan gets the same findings whichever way it is checked:
+
+* :func:`check_files` checks plan files (``-`` for standard input) and returns the
+  :class:`~protolint.findings.CheckResult` every report is made from;
+* :func:`check_source` checks one plan already read into a located tree (a document that has
+  its plan in memory);
+* :func:`check_text` checks plan text (tests, editors, other tools).
+
+Nothing here imports numpy, scipy, matplotlib or weasyprint: ``check`` runs in pre-commit hooks.
+"""
+
+from __future__ import annotations
+
+import os
+from datetime import date
+from typing import TYPE_CHECKING, Iterable, Union
+
+from protolint.findings import CheckResult, PlanResult
+
+if TYPE_CHECKING:
+    from protolint.plan.source import LoadedSource
+    from protolint.rules.policy import Policy
+    from protolint.rules.registry import RuleMeta
+
+PolicyArg = Union["Policy", str, "os.PathLike[str]", None]
+"""A policy: the object, the path of a policy file, or None for the default policy."""
+
+
+def check_files(paths: Iterable[str | os.PathLike[str]], policy: PolicyArg = None,
+                as_of: date | None = None) -> CheckResult:
+    """Check every plan file in ``paths``.
+
+    Every file is read before any rule runs. Files that cannot be read, or are not YAML, raise
+    :class:`~protolint.errors.InputErrors` with one located error per file (the command prints
+    those lines and nothing else, and exits 2); a policy file with a problem raises its
+    :class:`~protolint.errors.LocatedError`. ``as_of`` defaults to each plan's own date.
+    """
+    from protolint.errors import InputErrors, LocatedError
+    from protolint.plan import read_source
+
+    chosen = resolve_policy(policy)
+    sources, unreadable = [], []
+    for path in paths:
+        try:
+            sources.append(read_source(os.fspath(path)))
+        except LocatedError as error:
+            unreadable.append(error)
+    if unreadable:
+        raise InputErrors(unreadable)
+    return result_of(check_source(source, chosen, as_of) for source in sources)
+
+
+def check_source(source: LoadedSource, policy: PolicyArg = None, as_of: date | None = None) -> PlanResult:
+    """Check one plan read into a located tree: validate, build, run the rules, apply policy and waivers."""
+    from protolint.plan import load_plan
+    from protolint.rules.engine import check_loaded
+
+    return check_loaded(load_plan(source), resolve_policy(policy), as_of)
+
+
+def check_text(text: str | bytes, name: str = "plan.yaml", policy: PolicyArg = None,
+               as_of: date | None = None) -> PlanResult:
+    """Check plan text as if it were the file ``name`` (``LocatedError`` if it is not YAML)."""
+    from protolint.plan.source import load_source
+
+    raw = text.encode("utf-8") if isinstance(text, str) else text
+    return check_source(load_source(raw, name), policy, as_of)
+
+
+def result_of(plans: Iterable[PlanResult]) -> CheckResult:
+    """The :class:`CheckResult` of some checked plans, stamped with this version of the tool."""
+    from protolint import __version__
+
+    return CheckResult(plans=tuple(plans), tool_version=__version__)
+
+
+def resolve_policy(policy: PolicyArg) -> Policy:
+    from protolint.rules.policy import DEFAULT_POLICY, Policy, read_policy
+
+    if policy is None:
+        return DEFAULT_POLICY
+    if isinstance(policy, Policy):
+        return policy
+    return read_policy(os.fspath(policy), {meta.id: meta for meta in rule_metas()})
+
+
+def rule_metas(ids: Iterable[str] | None = None) -> list[RuleMeta]:
+    """Metadata of the rules with ``ids`` (every registered rule when None), sorted by id:
+    what SARIF lists as rule descriptors and JUnit as test cases."""
+    from protolint.rules.registry import all_rules
+
+    metas = {registered.meta.id: registered.meta for registered in all_rules()}
+    return [metas[i] for i in sorted(metas if ids is None else set(ids))]
+
+
+def rules_run(result: CheckResult) -> list[RuleMeta]:
+    """Metadata of every rule that ran on at least one plan of ``result``."""
+    return rule_metas({rule_id for plan in result.plans for rule_id in plan.rules_run})
