@@ -27,7 +27,28 @@ _XML_INVALID = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\ufffe\uffff\ud800-\udfff
 
 
 def sorted_findings(plan: PlanResult) -> tuple[Finding, ...]:
-    return tuple(sorted(plan.findings, key=lambda f: f.sort_key()))
+    """The plan's findings in the declared order (``findings.FINDING_ORDER``); the result
+    sorted them when it was made, so this only reads them."""
+    return plan.findings
+
+
+def not_run_note(plan: PlanResult, *, with_ids: bool = False) -> str | None:
+    """'58 rules were not run because …', naming the families (and with ``with_ids`` every
+    rule id), or None when every enabled rule ran on the plan."""
+    if not plan.rules_not_run:
+        return None
+    families: dict[str, int] = {}
+    for rule_id in plan.rules_not_run:
+        family = rule_id.split("/", 1)[0]
+        families[family] = families.get(family, 0) + 1
+    count = len(plan.rules_not_run)
+    which = ", ".join(f"{family} {n}" for family, n in sorted(families.items()))
+    note = (f"{plural(count, 'rule')} {'was' if count == 1 else 'were'} not run because "
+            f"{plan.not_run_reason or 'the plan could not be checked'} (by family: {which}); "
+            "rules run only on a plan that loads, so fix the problems above and check again")
+    if with_ids:
+        note += ": " + ", ".join(plan.rules_not_run)
+    return note
 
 
 def plan_counts(plan: PlanResult) -> dict[str, int]:
@@ -92,14 +113,15 @@ def xml_safe(text: str) -> str:
 def json_safe(value: Any) -> Any:
     """A copy of ``value`` that strict JSON can encode.
 
-    Facts should already be JSON values, but a report must not crash on a rule's slip:
-    non-finite floats become strings (strict JSON has no NaN), dates become ISO text, tuples
-    become lists and anything else its ``str``.
+    Facts should already be JSON values, but a report must not crash on a rule's slip: an
+    undefined number (NaN, an infinity) becomes ``null``, as in every JSON output of the tool
+    (strict JSON has no NaN), dates become ISO text, tuples become lists and anything else
+    its ``str``.
     """
     if value is None or isinstance(value, (bool, int, str)):
         return value
     if isinstance(value, float):
-        return value if math.isfinite(value) else str(value)
+        return value if math.isfinite(value) else None
     if isinstance(value, (date, datetime)):
         return value.isoformat()
     if isinstance(value, dict) or hasattr(value, "items"):

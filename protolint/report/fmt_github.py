@@ -13,7 +13,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING, Sequence
 
 from protolint import CAUTION
-from protolint.report._common import counts_phrase, forward_slashes, sorted_findings
+from protolint.report._common import counts_phrase, forward_slashes, not_run_note
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult
@@ -33,7 +33,10 @@ def escape_property(text: str) -> str:
 def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:
     lines = []
     for plan in result.plans:
-        for finding in sorted_findings(plan):
+        note = not_run_note(plan)
+        if note:
+            lines.append(f"::warning file={escape_property(forward_slashes(plan.file))},title=rules not run::{escape_data(note)}")
+        for finding in plan.findings:
             if finding.waived:
                 continue
             where = finding.location

@@ -24,7 +24,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, Mapping, Sequence
 
 from protolint import CAUTION
-from protolint.report._common import counts_phrase, json_safe, plan_counts, plural, sorted_findings
+from protolint.report._common import counts_phrase, json_safe, not_run_note, plan_counts, plural, sorted_findings
 from protolint.rules.sources import split_sources
 
 if TYPE_CHECKING:
@@ -242,6 +242,8 @@ class PlanView:
     """Inline SVG markup built here from numbers only (no plan text), or empty."""
     chart_caption: str
     source_note: str
+    not_run: str = ""
+    """How many rules a schema problem kept from running, and which (empty when all ran)."""
 
 
 def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:
@@ -310,6 +312,7 @@ def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], poli
         chart=chart,
         chart_caption=caption,
         source_note=source_note,
+        not_run=not_run_note(plan, with_ids=True) or "",
     )
 
 
@@ -485,7 +488,7 @@ def _sample_size_chart(findings: Sequence[Finding]) -> tuple[str, str]:
         assumed = facts.get("assumed_reliability")
     except (KeyError, TypeError, ValueError):
         return "", ""
-    from protolint.rules._working import enrolled, n_per_group
+    from protolint.plan.formulas import enrolled, n_per_group
 
     def total(rho: float) -> int:
         groups = n_per_group(d_true * math.sqrt(rho), alpha, power, sides, ratio)

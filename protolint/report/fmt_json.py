@@ -2,7 +2,7 @@
 
 The contract keys come first in a fixed order and are never renamed or dropped; the extra
 keys (``end_line``, ``end_column``, ``waiver_reason``, ``fingerprint``, ``as_of``,
-``caution``) follow them.
+``rules_not_run``, ``not_run_reason``, ``caution``) follow them. Undefined numbers are ``null``.
 """
 
 from __future__ import annotations
@@ -11,7 +11,7 @@ import json
 from typing import TYPE_CHECKING, Any, Sequence
 
 from protolint import CAUTION
-from protolint.report._common import fingerprints, json_safe, sorted_findings
+from protolint.report._common import fingerprints, json_safe
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding, PlanResult
@@ -36,12 +36,14 @@ def _finding(finding: Finding, fingerprint: str) -> dict[str, Any]:
 
 
 def _plan(plan: PlanResult) -> dict[str, Any]:
-    findings = sorted_findings(plan)
+    findings = plan.findings
     return {
         "file": plan.file,
         "sha256": plan.sha256,
         "as_of": plan.as_of,
         "findings": [_finding(f, fp) for f, fp in zip(findings, fingerprints(findings))],
+        "rules_not_run": list(plan.rules_not_run),
+        "not_run_reason": plan.not_run_reason,
     }
 
 
@@ -56,6 +58,6 @@ def as_document(result: CheckResult) -> dict[str, Any]:
 
 
 def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:
-    # allow_nan=False: json_safe has already turned non-finite numbers into text, and strict
+    # allow_nan=False: json_safe has already turned undefined numbers into null, and strict
     # JSON parsers reject NaN.
     return json.dumps(as_document(result), ensure_ascii=False, indent=2, allow_nan=False) + "\n"

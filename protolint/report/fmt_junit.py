@@ -10,7 +10,9 @@ Mapping (JUnit has no official specification; this targets the common ``junit-10
   ``file:line:col message`` followed by the JSON Pointer and the facts);
 * notes and waived findings are listed in the case's ``<system-out>``;
 * a case with no failure but at least one waived finding is reported as ``<skipped>`` (the
-  check did not pass on its own merits; a waiver set it aside), with the reasons.
+  check did not pass on its own merits; a waiver set it aside), with the reasons;
+* a rule that could not run on the plan (schema or reference problems) is a ``<skipped>``
+  case whose message says why.
 
 Counts: ``tests`` counts test cases, ``failures`` the cases with at least one ``<failure>``
 (the JUnit meaning: failed tests, not failure elements), ``skipped`` the skipped cases;
@@ -29,7 +31,6 @@ from protolint.report._common import (
     location_text,
     one_line,
     rule_ids_for_plan,
-    sorted_findings,
     xml_safe,
 )
 from protolint.report.fmt_text import finding_line
@@ -84,7 +85,7 @@ def _testcase(plan: PlanResult, rule_id: str, findings: list[Finding]) -> tuple[
 
 def _testsuite(plan: PlanResult, rules: Sequence[RuleMeta], version: str) -> tuple[ET.Element, dict[str, int]]:
     by_rule: dict[str, list[Finding]] = {}
-    for finding in sorted_findings(plan):
+    for finding in plan.findings:
         by_rule.setdefault(finding.rule, []).append(finding)
 
     suite = ET.Element("testsuite", {"name": xml_safe(plan.file)})
@@ -107,6 +108,11 @@ def _testsuite(plan: PlanResult, rules: Sequence[RuleMeta], version: str) -> tup
             counts["failures"] += 1
         elif outcome == "skipped":
             counts["skipped"] += 1
+    for rule_id in plan.rules_not_run:
+        case = ET.SubElement(suite, "testcase", {"classname": xml_safe(plan.file), "name": xml_safe(rule_id)})
+        ET.SubElement(case, "skipped", {"message": xml_safe(f"not run: {plan.not_run_reason or 'the plan could not be checked'}")})
+        counts["tests"] += 1
+        counts["skipped"] += 1
     for key, count in counts.items():
         suite.set(key, str(count))
     suite.set("file", xml_safe(plan.file))

@@ -16,7 +16,7 @@ from protolint.report._common import (
     facts_inline,
     plan_counts,
     plural,
-    sorted_findings,
+    not_run_note,
 )
 
 if TYPE_CHECKING:
@@ -111,7 +111,7 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
         _summary_table(result),
     ]
     for plan in result.plans:
-        findings = sorted_findings(plan)
+        findings = plan.findings
         active = [f for f in findings if not f.waived]
         waived = [f for f in findings if f.waived]
         parts.append(f"## {escape(plan.file)}")
@@ -129,6 +129,12 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
             )
         else:
             parts.append("No unwaived findings.")
+        note = not_run_note(plan)
+        if note:
+            parts.append(f"**Not checked.** {escape(note)}.")
+            parts.append("<details><summary>Rules not run</summary>\n\n"
+                         + ", ".join(f"`{rule_id}`" for rule_id in plan.rules_not_run if _SAFE_CODE.match(rule_id))
+                         + "\n\n</details>")
         if waived:
             parts.append("### Waived")
             parts.append(

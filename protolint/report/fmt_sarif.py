@@ -24,7 +24,7 @@ from protolint.report._common import (
     fingerprints,
     forward_slashes,
     json_safe,
-    sorted_findings,
+    not_run_note,
 )
 
 if TYPE_CHECKING:
@@ -143,6 +143,15 @@ def _result(
     return result
 
 
+def _invocation(notifications: list[dict[str, Any]]) -> dict[str, Any]:
+    """Rules that could not run on a plan are tool execution notifications: the run itself
+    succeeded (it reported what it could check), but its results are incomplete."""
+    invocation: dict[str, Any] = {"executionSuccessful": True}
+    if notifications:
+        invocation["toolExecutionNotifications"] = notifications
+    return invocation
+
+
 def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any]:
     unique = {meta.id: meta for meta in rules}
     descriptors = [_descriptor(unique[rule_id]) for rule_id in sorted(unique)]
@@ -150,6 +159,7 @@ def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any
     artifacts: list[dict[str, Any]] = []
     artifact_index: dict[str, int] = {}
     results: list[dict[str, Any]] = []
+    notifications: list[dict[str, Any]] = []
 
     for plan in result.plans:
         uri = artifact_uri(plan.file)
@@ -159,7 +169,15 @@ def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any
             if plan.sha256:
                 artifact["hashes"] = {"sha-256": plan.sha256}
             artifacts.append(artifact)
-        findings = sorted_findings(plan)
+        note = not_run_note(plan)
+        if note:
+            notifications.append({
+                "level": "warning",
+                "message": {"text": note},
+                "locations": [{"physicalLocation": {"artifactLocation": {"uri": uri, "index": artifact_index[uri]}}}],
+                "properties": {"rulesNotRun": list(plan.rules_not_run)},
+            })
+        findings = plan.findings
         for finding, fingerprint in zip(findings, fingerprints(findings)):
             if finding.rule not in rule_index:
                 rule_index[finding.rule] = len(descriptors)
@@ -183,7 +201,7 @@ def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any
             }
         },
         "automationDetails": {"id": AUTOMATION_ID},
-        "invocations": [{"executionSuccessful": True}],
+        "invocations": [_invocation(notifications)],
         "artifacts": artifacts,
         "columnKind": "unicodeCodePoints",
         "results": results,

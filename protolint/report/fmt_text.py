@@ -17,7 +17,7 @@ from protolint.report._common import (
     one_line,
     plan_counts,
     plural,
-    sorted_findings,
+    not_run_note,
 )
 
 if TYPE_CHECKING:
@@ -72,7 +72,10 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
     blocks: list[str] = []
     for plan in result.plans:
         lines = [_header(plan.file, plan_counts(plan), color)]
-        lines.extend(finding_line(finding, color=color) for finding in sorted_findings(plan))
+        lines.extend(finding_line(finding, color=color) for finding in plan.findings)
+        note = not_run_note(plan)
+        if note:
+            lines.append(textwrap.fill(one_line(note), width=WRAP_WIDTH))
         blocks.append("\n".join(lines))
 
     counts = result.counts()

@@ -18,7 +18,10 @@ from protolint.plan.source import LoadedSource
 from protolint.rules.policy import DEFAULT_POLICY, Policy
 from protolint.rules.registry import Rule, RuleContext, all_rules, similar_rule_ids
 
-NOT_RUN_REASON = "the plan has schema or reference problems; rules run only on a plan that loads"
+NOT_RUN_REASON = "the plan has schema or reference problems"
+"""Why rules did not run. They run on the whole typed plan or not at all: a rule that recomputes
+a number reads several sections (evidence, endpoints, schedule, sample size), and one computed
+from a plan with parts left out would be a wrong number presented as a finding."""
 
 
 def check_loaded(loaded: LoadedPlan, policy: Policy = DEFAULT_POLICY, as_of: date | None = None,

@@ -53,8 +53,8 @@ def test_values_and_types(doc):
         "column": 5,
         "pointer": "/sample_size/reliability",
         "waived": False,
-        # NaN is not JSON; it is carried as text instead of breaking strict parsers.
-        "facts": {"assumed": 0.9, "evidence": 0.62, "n_required": 160, "ratio": "nan"},
+        # NaN is not JSON; an undefined number is null, as in the analysis commands' JSON.
+        "facts": {"assumed": 0.9, "evidence": 0.62, "n_required": 160, "ratio": None},
         "end_line": 12,
         "end_column": 9,
     }

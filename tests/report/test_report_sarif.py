@@ -75,7 +75,8 @@ def test_results_point_at_their_rule_and_location(result, rules):
     assert first["locations"][0]["physicalLocation"]["region"] == {
         "startLine": 12, "startColumn": 5, "endLine": 12, "endColumn": 9,
     }
-    assert first["properties"]["facts"] == {"assumed": 0.9, "evidence": 0.62, "n_required": 160, "ratio": "nan"}
+    # An undefined number is null, as in every JSON output of the tool.
+    assert first["properties"]["facts"] == {"assumed": 0.9, "evidence": 0.62, "n_required": 160, "ratio": None}
     assert first["message"]["text"].startswith("Assumed reliability 0.9")
 
 
