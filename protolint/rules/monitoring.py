@@ -132,15 +132,18 @@ def interval_exceeds_drift_window(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
         if monitoring is None or monitoring.interval_weeks is None or monitoring.interval_weeks <= limit:
             continue
         per_site = {site: len(rounds_while_rating(site_rounds)) for site, site_rounds in monitoring_rounds(plan, pool).items()}
-        spans = pool_spans(plan, pool)
-        days = max(((span.last_rating - span.first_rating).days for span in spans), default=0)
+        lengths = {(span.last_rating - span.first_rating).days for span in pool_spans(plan, pool)}
+        days = max(lengths, default=0)
         fewest = min(per_site.values(), default=0)
-        count = f"{fewest} regular round{'' if fewest == 1 else 's'}"
-        if len(per_site) > 1:
-            count += " at the site with the fewest"
+        rounds_words = f"{fewest} regular round{'' if fewest == 1 else 's'}"
+        if len(set(per_site.values())) > 1:
+            rounds_words = f"as few as {rounds_words} at one site"
+        elif len(per_site) > 1:
+            rounds_words += " at each site"
+        count = f"{rounds_words} in {'at most ' if len(lengths) > 1 else ''}{days} days of rating"
         yield Hit(monitoring.path + ("interval_weeks",),
                   f"rater pool {pool.id} is monitored every {monitoring.interval_weeks} weeks, longer than the {limit}-week "
-                  f"drift window; that gives {count} in at most {days} days of rating, so a drifting rater can rate "
+                  f"drift window; that gives {count}, so a drifting rater can rate "
                   f"for up to {monitoring.interval_weeks} weeks unnoticed",
                   {"pool": pool.id, "interval_weeks": monitoring.interval_weeks, "max_interval_weeks": limit,
                    "rating_period_days": days, "rounds": fewest})
