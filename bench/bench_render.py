@@ -119,7 +119,7 @@ def main() -> None:
         plan_file = Path(folder) / "stress.yaml"
         plan_file.write_text(stress_plan_text(), encoding="utf-8")
         stress = read_plan_file(str(plan_file))
-        from protolint.render.context import checklist_context
+        from protolint.render.checklist import checklist_context
 
         rounds = checklist_context(stress).round_count
         print(f"stress plan: 30 sites x 10 raters, weekly monitoring, {rounds} monitoring rounds")

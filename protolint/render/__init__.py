@@ -1,8 +1,14 @@
 """Controlled documents from a plan: rater manual, monitoring checklist and SOP binder.
 
-plan -> typed context (:mod:`.context`) -> Jinja template (``templates/``) -> HTML, Markdown,
+plan -> typed context (one module per document: :mod:`.manual`, :mod:`.checklist`,
+:mod:`.binder`; shared parts in :mod:`.document` and :mod:`.phrases`) -> Jinja template (``templates/``) -> HTML, Markdown,
 or PDF (:mod:`.pdf`, a thin wrapper around the HTML). iCalendar export is in :mod:`.calendar`.
 Nothing here reads the clock, the network or a file other than the packaged templates.
+
+Templates only lay out; every decision (which pools sign which SOP, what a criterion means in
+words, which dates a checklist has) is made in the context modules, in small functions that
+can be tested without rendering. Contexts are frozen dataclasses; dated facts (monitoring
+rounds, rating spans, the reliability the trial can expect) come from ``protolint.plan``.
 """
 
 from __future__ import annotations
@@ -22,16 +28,20 @@ Progress = Callable[[str], None]
 def build_context(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
                   site: str | None = None) -> Any:
     """The typed context of document ``kind`` for ``loaded`` (``site``: one site's checklist)."""
-    from protolint.render import context
-
     if site is not None and kind != "checklist":
         raise ValueError("a single site can be chosen for the checklist only")
     if kind == "manual":
-        return context.manual_context(loaded, paper)
+        from protolint.render.manual import manual_context
+
+        return manual_context(loaded, paper)
     if kind == "checklist":
-        return context.checklist_context(loaded, paper, site)
+        from protolint.render.checklist import checklist_context
+
+        return checklist_context(loaded, paper, site)
     if kind == "binder":
-        return context.binder_context(loaded, paper, progress)
+        from protolint.render.binder import binder_context
+
+        return binder_context(loaded, paper, progress)
     raise ValueError(f"document kind must be one of {', '.join(KINDS)}, got {kind!r}")
 
 
@@ -63,7 +73,7 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
     """PDF/A-3b with the plan file embedded; see :mod:`protolint.render.pdf`."""
     from pathlib import PurePath
 
-    from protolint.render.context import document_date
+    from protolint.render.document import document_date
     from protolint.render.pdf import PdfSource, html_to_pdf
 
     html = render_html(kind, loaded, paper, progress, site)

@@ -18,7 +18,7 @@ from protolint.plan import LoadedPlan
 from protolint.plan.model import Plan
 from protolint.plan.timeline import certification_expiry, study_window
 from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, recertification_dates, training_deadline
-from protolint.render.context import document_date
+from protolint.render.document import document_date
 
 UID_DOMAIN = "protolint.invalid"
 

@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from protolint.plan import read_plan_file
-from protolint.render.context import sample_size_appendix
+from protolint.render.binder import sample_size_appendix
 from protolint.rules.engine import check_loaded
 
 

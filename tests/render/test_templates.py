@@ -11,7 +11,7 @@ import pytest
 
 from protolint import CAUTION, __version__
 from protolint.render import KINDS, render
-from protolint.render.context import SIGNATURE_NOTE, document_date
+from protolint.render.document import SIGNATURE_NOTE, document_date
 from protolint.render.environment import make_env
 
 
