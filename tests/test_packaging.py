@@ -38,6 +38,13 @@ def test_wheel_carries_schemas_and_templates(wheel):
     assert "protolint/_data/templates/starter-plan.yaml" in names
 
 
+def test_the_wheel_takes_its_version_from_the_package(wheel):
+    # The version is written once, in protolint/__init__.py; pyproject.toml reads it from there.
+    from protolint import __version__
+
+    assert wheel.name.split("-")[1] == __version__  # name-version-python-abi-platform.whl
+
+
 def test_installed_package_checks_a_plan_away_from_the_repo(wheel, tmp_path):
     target = tmp_path / "site"
     subprocess.run([sys.executable, "-m", "pip", "install", "--quiet", "--no-deps", "--target", str(target), str(wheel)], check=True)

@@ -150,7 +150,8 @@ def _evidence_point(plan: Plan, endpoint: Endpoint, effect: float, common: dict[
 def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
     """The reliability-adjusted sample size of the plan's comparison, with its curve.
 
-    Uses the classical-test-theory convention (observed d = d·√ρ, DESIGN section 5). An effect
+    Uses the classical-test-theory convention: the observed SD is the true-score SD over √ρ, so the
+    observed d is d·√ρ. An effect
     the plan states as observed in a previous trial is first brought to the true-score scale
     exactly as the sample-size rule does (``plan.reliability.true_effect_size``).
     """

@@ -19,7 +19,7 @@ import re
 from functools import lru_cache
 
 from markdown_it import MarkdownIt
-from markupsafe import Markup, escape
+from markupsafe import Markup
 
 ALLOWED_SCHEMES = ("http", "https", "mailto")
 _SCHEME = re.compile(r"^\s*([A-Za-z][A-Za-z0-9+.\-]*):")
@@ -136,8 +136,3 @@ def markdown_escape(text: object) -> str:
     value = " ".join(str(text).split())
     value = value.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     return _INLINE_SPECIAL.sub(r"\\\1", value)
-
-
-def plain_text(text: object) -> Markup:
-    """Escape a value for HTML (what autoescaping does), for use in Python code."""
-    return escape("" if text is None else str(text))

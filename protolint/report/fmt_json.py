@@ -1,4 +1,4 @@
-"""JSON report: the machine-readable contract of ``protolint check`` (DESIGN section 3).
+"""JSON report: the machine-readable contract of ``protolint check`` (described in README.md).
 
 The contract keys come first in a fixed order and are never renamed or dropped; the extra
 keys (``end_line``, ``end_column``, ``waiver_reason``, ``fingerprint``, ``as_of``,

@@ -21,10 +21,6 @@ class ConfidenceInterval:
     high: float
     level: float
 
-    def as_list(self) -> list[float]:
-        """The bounds as ``[low, high]`` (the form used in JSON output)."""
-        return [self.low, self.high]
-
 
 @dataclass(frozen=True, slots=True)
 class FTest:

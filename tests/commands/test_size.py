@@ -1,4 +1,4 @@
-"""``protolint size``: DESIGN section 5 figures, Cohen (1988), the JSON contract and bad input."""
+"""``protolint size``: attenuated sample sizes, Cohen (1988), the JSON contract and bad input."""
 
 from __future__ import annotations
 
@@ -36,8 +36,9 @@ def run_json(*args: str) -> dict:
 def test_design_section_3_example() -> None:
     report = run_json("--effect-size", "0.5", "--reliability", "0.8")
     assert list(report)[: len(CONTRACT_KEYS)] == CONTRACT_KEYS
-    # DESIGN section 3/5: d .5, rho .8 -> 80 + 80 = 160, 128 at rho 1, inflation 1.25;
-    # observed d = .5 sqrt(.8) = 0.447.
+    # d .5, rho .8 -> 80 + 80 = 160 (statsmodels TTestIndPower().solve_power(0.5 * sqrt(0.8),
+    # alpha=0.05, power=0.8) = 79.46 per group), 128 at rho 1 (63.77; Cohen 1988 Table 2.4.1
+    # prints 64), inflation 1.25; observed d = .5 sqrt(.8) = 0.447.
     assert report["design"] == "two-group"
     assert (report["effect_size"], report["alpha"], report["power"], report["sides"], report["reliability"]) == (0.5, 0.05, 0.8, 2, 0.8)
     assert round(report["effect_size_observed"], 3) == 0.447
@@ -51,7 +52,8 @@ def test_design_section_3_example() -> None:
 
 @pytest.mark.parametrize("convention,rho,n_total", [("ctt", "0.4", 316), ("true-score", "0.8", 200), ("true-score", "0.4", 788)])
 def test_conventions_by_name(convention: str, rho: str, n_total: int) -> None:
-    # DESIGN section 5: 316 at rho .4 (ctt); 200 at .8 and 788 ("almost 800") at .4 (true-score).
+    # statsmodels TTestIndPower per group, rounded up, doubled: 316 at rho .4 (ctt, d_obs 0.3162);
+    # 200 at .8 (d_obs 0.4) and 788 at .4 (d_obs 0.2; 393.41 per group) under the true-score convention.
     report = run_json("--effect-size", "0.5", "--reliability", rho, "--convention", convention)
     assert report["n_total"] == n_total
     assert report["convention"] == {"ctt": "variance-ratio", "true-score": "observed-true-correlation"}[convention]
@@ -88,7 +90,7 @@ def test_curve_json_and_text() -> None:
     curve = report["curve"]
     assert [point["reliability"] for point in curve] == [round(0.40 + 0.05 * i, 2) for i in range(13)]
     by_rho = {point["reliability"]: point["n_total"] for point in curve}
-    # DESIGN section 5 (ctt, exact t): 316 / 212 / 160 / 128 at rho .4 / .6 / .8 / 1.
+    # ctt, exact t (statsmodels TTestIndPower at d = 0.5 sqrt(rho)): 316 / 212 / 160 / 128 at rho .4 / .6 / .8 / 1.
     assert (by_rho[0.4], by_rho[0.6], by_rho[0.8], by_rho[1.0]) == (316, 212, 160, 128)
     assert all(a["n_total"] >= b["n_total"] for a, b in zip(curve, curve[1:]))
     code, out, _ = run("--effect-size", "0.5", "--curve")

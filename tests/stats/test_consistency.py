@@ -47,7 +47,8 @@ def test_agrees_with_pingouin(seed: int, n: int, k: int, level: float) -> None:
 
 
 def test_sem_and_mdc_formulas() -> None:
-    # REFERENCE_CHECKS A1 on the Shrout & Fleiss data (formula values): SD of all 24 ratings
+    # Shrout & Fleiss (1979) Table 2 data, formula values worked from the Table 3 mean squares
+    # and Table 4 ICCs: SD of all 24 ratings
     # 2.7103532 with ICC(2,1) gives SEM 2.2841641, with ICC(3,1) 1.4473369; SEM = sqrt(EMS)
     # = 1.0096754 gives MDC95 = 1.96 sqrt(2) SEM = 2.7986775.
     assert sem(2.7103532, 0.2897638) == pytest.approx(2.2841641, abs=1e-6)

@@ -32,7 +32,7 @@ def test_ac1_on_fleiss_first_15_matches_gwet(fleiss_1971: np.ndarray) -> None:
 
 
 def test_ac1_on_full_fleiss_and_skin_data(fleiss_1971: np.ndarray, skin: np.ndarray) -> None:
-    # irrCAC 0.4.4 on the same data (REFERENCE_CHECKS A2, A4).
+    # irrCAC 0.4.4 `CAC.gwet()` on the same data (Fleiss 1971 diagnoses; SAS agreement-study table).
     r = gwet_ac1(fleiss_1971)
     assert r.value == pytest.approx(0.4478845, abs=1e-6)
     assert r.se == pytest.approx(0.0556621, abs=1e-6)

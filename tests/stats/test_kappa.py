@@ -19,7 +19,8 @@ from .conftest import random_ratings
 
 def test_unweighted_kappa_matches_sas_agreement_study(skin: np.ndarray) -> None:
     r = cohen_kappa(skin)
-    # SAS/STAT User's Guide, PROC FREQ agreement study (recalled, see REFERENCE_CHECKS A4):
+    # SAS/STAT User's Guide, PROC FREQ, Getting Started, "Agreement Study" (values recalled, not
+    # re-read; statsmodels cohen_kappa, scikit-learn cohen_kappa_score and irrCAC give 0.3448753):
     # kappa 0.3449, ASE 0.0724, 95 % CI (0.2030, 0.4868).
     assert round(r.value, 4) == 0.3449
     assert round(r.se, 4) == 0.0724

@@ -1,4 +1,4 @@
-"""Power and sample size: Cohen (1988) tables, DESIGN section 5 figures, statsmodels, pingouin."""
+"""Power and sample size: Cohen (1988) tables, attenuated sample sizes, statsmodels, pingouin."""
 
 from __future__ import annotations
 
@@ -23,7 +23,8 @@ from protolint.stats import (
 # Cohen's tables used approximations and are within 1 of the exact noncentral-t answer.
 COHEN_1988 = {(0.2, 0.8): 393, (0.5, 0.8): 64, (0.8, 0.8): 26, (0.2, 0.9): 526, (0.5, 0.9): 85, (0.8, 0.9): 34}
 # Exact noncentral t, n per group before rounding: statsmodels TTestIndPower, pingouin
-# power_ttest and R pwr.t.test agree (REFERENCE_CHECKS A6).
+# power_ttest and R pwr.t.test agree, e.g. TTestIndPower().solve_power(0.5, alpha=0.05, power=0.8)
+# = 63.76561.
 EXACT = {(0.2, 0.8): 393.4057, (0.5, 0.8): 63.76561, (0.8, 0.8): 25.52458, (0.2, 0.9): 526.3332, (0.5, 0.9): 85.0313, (0.8, 0.9): 33.8255}
 
 
@@ -45,8 +46,10 @@ def test_power_at_64_per_group() -> None:
     assert power_two_group(64, 0.5).power == pytest.approx(0.8014596, abs=1e-6)
 
 
-# DESIGN section 5 / REFERENCE_CHECKS A6: d = 0.5, two-sided .05, power .80, N total (exact t).
-DESIGN_SECTION_5 = [
+# d = 0.5, two-sided .05, power .80, N total (exact t): classical test theory gives d·√ρ, the
+# true-score correlation convention d·ρ. Each is statsmodels TTestIndPower().solve_power(d_obs,
+# alpha=0.05, power=0.8) per group, rounded up and doubled (pingouin power_ttest agrees).
+ATTENUATED_TOTALS = [
     ("ctt", 1.0, 128, 0.5),
     ("ctt", 0.8, 160, 0.447214),
     ("ctt", 0.6, 212, 0.387298),
@@ -60,7 +63,7 @@ DESIGN_SECTION_5 = [
 ]
 
 
-@pytest.mark.parametrize("convention,rho,n_total,d_obs", DESIGN_SECTION_5)
+@pytest.mark.parametrize("convention,rho,n_total,d_obs", ATTENUATED_TOTALS)
 def test_attenuated_sample_size_both_conventions(convention: str, rho: float, n_total: int, d_obs: float) -> None:
     r = sample_size_two_group(0.5, reliability=rho, convention=convention)
     assert r.n_total == n_total

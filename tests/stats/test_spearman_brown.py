@@ -1,4 +1,4 @@
-"""Spearman-Brown prophecy and its inverses (formula values of REFERENCE_CHECKS A1)."""
+"""Spearman-Brown prophecy and its inverses, on the ICCs of Shrout & Fleiss (1979) Table 4 (formula values)."""
 
 from __future__ import annotations
 
