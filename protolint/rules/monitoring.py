@@ -6,11 +6,15 @@ from typing import Iterator
 
 from protolint.plan.model import Plan
 from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, rounds_while_rating
+from protolint.rules import sources as S
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
+from protolint.rules.sources import cite
+from protolint.rules.wording import plural
 
 
 @rule("monitoring/none-planned", "error",
-      source="Lachin 2004 (Clin Trials 1:553; quality control by duplicate assessments); ICH E6(R3) 3.11.4 (centralised monitoring)")
+      source=cite(f"{S.LACHIN_2004} (quality control by duplicate assessments)",
+                  f"{S.E6}, Annex 1 sections 3.11.4 and 3.11.4.2 (monitoring, including centralised monitoring)"))
 def none_planned(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """A rater pool is trained and certified but never monitored afterwards.
 
@@ -63,7 +67,7 @@ ROUND_DEFINITION = ("round k falls k x interval after the pool's first rating at
 
 
 @rule("monitoring/no-rounds-in-rating-period", "warning", computed=True,
-      source="common practice (arithmetic on the plan's schedule); rater drift: Mulsant et al. 2002, Am J Psychiatry 159:1598")
+      source=cite("common practice (arithmetic on the plan's schedule)", f"{S.MULSANT_2002} (reliability of ratings in trials)"))
 def no_rounds_in_rating_period(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Monitoring is so infrequent that no round falls while ratings are being made.
 
@@ -113,7 +117,8 @@ def _sites_phrase(sites: list[str]) -> str:
 
 @rule("monitoring/interval-exceeds-drift-window", "warning", computed=True,
       thresholds=[Threshold("max_interval_weeks", 26, "Longest acceptable gap between monitoring rounds (the drift window).", 1, 260)],
-      source="common practice (recalibration within months; no published interval); rater drift: Mulsant et al. 2002, Am J Psychiatry 159:1598")
+      source=cite("common practice (recalibration within months; no published interval)",
+                  f"{S.MULSANT_2002} (reliability of ratings in trials)"))
 def interval_exceeds_drift_window(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Monitoring rounds are further apart than the drift window.
 
@@ -135,7 +140,7 @@ def interval_exceeds_drift_window(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
         lengths = {(span.last_rating - span.first_rating).days for span in pool_spans(plan, pool)}
         days = max(lengths, default=0)
         fewest = min(per_site.values(), default=0)
-        rounds_words = f"{fewest} regular round{'' if fewest == 1 else 's'}"
+        rounds_words = plural(fewest, "regular round")
         if len(set(per_site.values())) > 1:
             rounds_words = f"as few as {rounds_words} at one site"
         elif len(per_site) > 1:
@@ -151,7 +156,7 @@ def interval_exceeds_drift_window(plan: Plan, ctx: RuleContext) -> Iterator[Hit]
 
 @rule("monitoring/recertification-too-infrequent", "warning",
       thresholds=[Threshold("max_months", 12, "Longest a certification may stay valid without recertification.", 1, 120)],
-      source="common practice (yearly recertification); ICH E6(R3) 2.3.2")
+      source=cite("common practice (yearly recertification)", f"{S.E6}, Annex 1 section 2.3.2 (trial-specific training)"))
 def recertification_too_infrequent(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Raters are never recertified, or only after a long interval.
 
@@ -175,7 +180,8 @@ def recertification_too_infrequent(plan: Plan, ctx: RuleContext) -> Iterator[Hit
 
 
 @rule("monitoring/no-drift-criteria", "warning",
-      source="ICH E6(R3) 3.11.4.5.4 (look for outliers, lack of variability and trends within and across sites) and principle 6.3")
+      source=f"{S.E6}, Annex 1 section 3.11.4.5.4 (look for outliers, lack of variability and trends within and across "
+             "sites) and principle 6.3")
 def no_drift_criteria(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """Monitoring does not say what counts as drift or what happens then.
 
@@ -203,7 +209,8 @@ _DUPLICATING = frozenset({"co-rating", "central-re-rating", "video-review"})
 
 @rule("monitoring/no-duplicate-ratings", "note",
       thresholds=[Threshold("min_duplicate_fraction", 0.05, "Smallest share of trial assessments rated twice independently.", 0.0, 1.0)],
-      source="Lachin 2004, Clin Trials 1:553 (quality control by randomly selected duplicate assessments); the fraction is common practice")
+      source=cite(f"{S.LACHIN_2004} (quality control by randomly selected duplicate assessments)",
+                  "the fraction: common practice"))
 def no_duplicate_ratings(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
     """No random share of real trial assessments is rated a second time.
 

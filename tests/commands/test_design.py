@@ -215,15 +215,15 @@ def test_coefficient_follows_the_rating_arrangement() -> None:
 
 
 @pytest.mark.parametrize(("content", "message"), [
-    ("", "pilot.csv:1: the file is empty"),
-    ("subject,judge,score\nA,R1,3\n", "pilot.csv:1: no 'rater' column"),
-    ("subject,rater,score\nA,R1,3\nA,R2\n", "pilot.csv:3: the row has 2 fields, the header has 3"),
-    ("subject,rater,score\nA,R1,3\nA,R2,high\n", "pilot.csv:3: score 'high' is not a number"),
-    ("subject,rater,score\nA,R1,3\nB,R1,4\nA,R1,5\n", "pilot.csv:4: subject 'A', rater 'R1' is already rated on line 2"),
-    ("subject,rater,score\nA,,3\n", "pilot.csv:2: empty rater"),
-    ("subject,rater,score\nA,R1,3\nA,R2,4\n", "pilot.csv:3: found 1 subject(s)"),
-    ("subject;rater;score\nA;R1;3\n", "pilot.csv:1: the header is one field"),
-    ("subject,rater,score\nA,R1,inf\n", "pilot.csv:2: score 'inf' is not a finite number"),
+    ("", "pilot.csv:1:0: the file is empty"),
+    ("subject,judge,score\nA,R1,3\n", "pilot.csv:1:0: no 'rater' column"),
+    ("subject,rater,score\nA,R1,3\nA,R2\n", "pilot.csv:3:0: the row has 2 fields, the header has 3"),
+    ("subject,rater,score\nA,R1,3\nA,R2,high\n", "pilot.csv:3:0: score 'high' is not a number"),
+    ("subject,rater,score\nA,R1,3\nB,R1,4\nA,R1,5\n", "pilot.csv:4:0: subject 'A', rater 'R1' is already rated on line 2"),
+    ("subject,rater,score\nA,,3\n", "pilot.csv:2:0: empty rater"),
+    ("subject,rater,score\nA,R1,3\nA,R2,4\n", "pilot.csv:3:0: found 1 subject(s)"),
+    ("subject;rater;score\nA;R1;3\n", "pilot.csv:1:0: the header is one field"),
+    ("subject,rater,score\nA,R1,inf\n", "pilot.csv:2:0: score 'inf' is not a finite number"),
 ])
 def test_bad_files_get_one_located_line_and_exit_2(tmp_path: Path, cli_process, content: str, message: str) -> None:
     path = tmp_path / "pilot.csv"

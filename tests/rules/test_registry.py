@@ -89,11 +89,7 @@ FULL_CITATION = re.compile(r"\(\d{4}\)\. \S|ICH E\d|ISO 9001|Code of Federal Reg
 
 
 @pytest.mark.parametrize("registered", RULES, ids=[r.meta.id for r in RULES])
-def test_rule_source_is_written_out_or_common_practice(registered, request) -> None:
-    if registered.check.__module__ == "protolint.rules.monitoring":
-        request.applymarker(pytest.mark.xfail(reason="monitoring.py is being moved; its sources are written out "
-                                                     "from protolint/rules/sources.py when the move lands",
-                                              strict=False))
+def test_rule_source_is_written_out_or_common_practice(registered) -> None:
     source = registered.meta.source
     assert "memory" not in source.lower()
     from protolint.rules.sources import split_sources
