@@ -9,14 +9,17 @@ from protolint.errors import LocatedError, ProtolintError
 
 @dataclass(frozen=True)
 class Where:
-    """A place in a data file: ``file:line`` (text), ``file:Sheet!C4`` (workbook) or
-    ``file:row 12`` (a record of a Dataset-JSON or SAS transport file)."""
+    """A place in a data file: ``file:line:0`` (a line of text; column 0 = the whole line, as
+    in every located message), ``file:Sheet!C4`` (workbook) or ``file:row 12`` (a record of a
+    Dataset-JSON or SAS transport file); ``file:0:0`` is the file as a whole."""
 
     file: str
     place: str = ""
 
     def __str__(self) -> str:
-        return f"{self.file}:{self.place}" if self.place else self.file
+        if not self.place:
+            return f"{self.file}:0:0"
+        return f"{self.file}:{self.place}:0" if self.place.isdigit() else f"{self.file}:{self.place}"
 
 
 class DataError(LocatedError):
@@ -24,8 +27,8 @@ class DataError(LocatedError):
 
     def __init__(self, where: Where, message: str) -> None:
         self.file = where.file
-        self.line = None
-        self.column = None
+        self.line = int(where.place) if where.place.isdigit() else 0
+        self.column = 0
         self.reason = message
         self.where = where
         ProtolintError.__init__(self, f"{where}: {message}")

@@ -177,10 +177,10 @@ def test_long_data_second_score_for_the_same_unit_is_located(tmp_path: Path) -> 
     path.write_text("case,rater,score\nC1,R1,3\nC1,R2,4\nC2,R1,2\nC2,R2,2\nC1,R1,5\n", encoding="utf-8")
     code, _, err = run("agreement", path, "--case", "case", "--rater", "rater", "--score", "score")
     assert code == 2
-    assert err.strip() == (f"{path}:6: a second score for C1 by rater 'R1' (first at {path}:2); "
+    assert err.strip() == (f"{path}:6:0: a second score for C1 by rater 'R1' (first at {path}:2:0); "
                            "each rater scores each unit once")
     code, _, err = run("agreement", path, "--case", "case", "--rater", "judge", "--score", "score")
-    assert code == 2 and f"{path}:1: no column 'judge' (named by --rater)" in err
+    assert code == 2 and f"{path}:1:0: no column 'judge' (named by --rater)" in err
 
 
 def workbook(tmp_path: Path, name: str, fill) -> Path:
@@ -260,7 +260,7 @@ def test_dataset_json_column_count_mismatch_is_located(tmp_path: Path) -> None:
     nd = tmp_path / "bad.ndjson"
     nd.write_text("\n".join([json.dumps(meta), *(json.dumps(r) for r in document["rows"])]) + "\n", encoding="utf-8")
     code, _, err = run("agreement", nd)
-    assert code == 2 and err.strip() == f"{nd}:4: the row has 4 value(s), the columns metadata lists 5"
+    assert code == 2 and err.strip() == f"{nd}:4:0: the row has 4 value(s), the columns metadata lists 5"
 
 
 def test_dataset_json_truncated_and_old_version(tmp_path: Path) -> None:
@@ -278,13 +278,13 @@ def test_dataset_json_truncated_and_old_version(tmp_path: Path) -> None:
     del short["records"]
     path.write_text(json.dumps(short), encoding="utf-8")
     code, _, err = run("agreement", path)
-    assert code == 2 and err.strip() == f"{path}: 'records' is None; Dataset-JSON 1.1 requires the number of rows there"
+    assert code == 2 and err.strip() == f"{path}:0:0: 'records' is None; Dataset-JSON 1.1 requires the number of rows there"
     old = {"creationDateTime": "2023-01-01T00:00:00", "datasetJSONVersion": "1.0.0",
            "clinicalData": {"itemGroupData": {"IG.X": {"records": 0, "name": "X", "items": [], "itemData": []}}}}
     path = tmp_path / "old.json"
     path.write_text(json.dumps(old), encoding="utf-8")
     code, _, err = run("agreement", path)
-    assert code == 2 and err.strip().startswith(f"{path}: Dataset-JSON version 1.0.0 is not read; export the dataset as Dataset-JSON 1.1")
+    assert code == 2 and err.strip().startswith(f"{path}:0:0: Dataset-JSON version 1.0.0 is not read; export the dataset as Dataset-JSON 1.1")
 
 
 def test_truncated_and_foreign_xpt_are_refused(tmp_path: Path) -> None:
@@ -295,7 +295,7 @@ def test_truncated_and_foreign_xpt_are_refused(tmp_path: Path) -> None:
     cut = tmp_path / "cut.xpt"
     cut.write_bytes(data[:-37])
     code, _, err = run("agreement", cut)
-    assert code == 2 and err.strip() == (f"{cut}: truncated SAS transport file: {len(data) - 37} bytes is not a whole "
+    assert code == 2 and err.strip() == (f"{cut}:0:0: truncated SAS transport file: {len(data) - 37} bytes is not a whole "
                                          "number of 80-byte records")
     foreign = tmp_path / "foreign.xpt"
     foreign.write_bytes(b"subject,a,b\n1,2,3\n")
@@ -374,7 +374,7 @@ def test_constant_column_refused_unless_allowed(tmp_path: Path) -> None:
 
     path = tmp_path / "constant.tsv"
     path.write_text("subject\ta\tb\n1\t4\t3\n2\t4\t5\n3\t4\t1\n", encoding="utf-8")
-    with pytest.raises(Exception, match=r"constant.tsv:1: rater column 'a' has the same value \(4\) in every row"):
+    with pytest.raises(Exception, match=r"constant.tsv:1:0: rater column 'a' has the same value \(4\) in every row"):
         read_rating_table(str(path))
     table = read_rating_table(str(path), allow_constant=True)
     assert table.values[:, 0].tolist() == [4.0, 4.0, 4.0]
