@@ -45,7 +45,7 @@ from protolint.errors import LocatedError, ProtolintError
 # --- Derived plan facts. Monitoring rounds and calendar arithmetic have one definition, shared
 # with the checklist and the calendar; this is the one place this module imports them from.
 from protolint.plan.timeline import add_months
-from protolint.render.schedule import CENTRAL, MonitoringRound, monitoring_rounds
+from protolint.plan.monitoring import CENTRAL, MonitoringRound, monitoring_rounds
 
 if TYPE_CHECKING:
     from protolint.data.roles import ReadOptions

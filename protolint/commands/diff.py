@@ -55,16 +55,8 @@ def command(old: str, new: str, fmt: str, output: str | None, fail_on_new: str |
 
 
 def _check(source: LoadedSource) -> PlanResult:
-    """The findings of one version, with the default policy and the plan's own date.
+    """The findings of one version, with the default policy and the plan's own date, from the
+    one check pipeline."""
+    from protolint.pipeline import check_source
 
-    The one place this command reaches into the check pipeline, so that moving to
-    ``protolint.check_files`` changes this function only.
-    """
-    from protolint.plan import load_plan
-    from protolint.rules.engine import check_loaded
-    from protolint.rules.policy import DEFAULT_POLICY
-    from protolint.rules.registry import all_rules
-
-    rules = all_rules()
-    loaded = load_plan(source, [rule.meta.id for rule in rules])
-    return check_loaded(loaded, DEFAULT_POLICY, None, rules)
+    return check_source(source)

@@ -101,7 +101,7 @@ def test_bad_files_exit_2_with_file_and_line_and_write_nothing(tmp_path: Path, b
     target = tmp_path / "out.json"
     done = process(str(data), "--format", "json", "--output", str(target))
     assert done.returncode == 2
-    assert done.stderr.startswith(f"{data}:{line}: ") and message in done.stderr, done.stderr
+    assert done.stderr.startswith(f"{data}:{line}:") and message in done.stderr, done.stderr
     assert "Traceback" not in done.stderr
     assert not target.exists()
 

@@ -15,9 +15,7 @@ import pytest
 
 from protolint.compare import compare_plans
 from protolint.plan import read_source
-from protolint.rules.engine import check_loaded
-from protolint.plan import load_plan
-from protolint.rules.registry import all_rules
+from protolint.pipeline import check_source
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_protocol" / "plan.yaml"
 DEMO_TEXT = DEMO.read_text(encoding="utf-8")
@@ -52,10 +50,8 @@ def write(tmp_path: Path, name: str, text: str) -> Path:
 
 def compare(tmp_path: Path, new_text: str, old_text: str = DEMO_TEXT):
     old, new = write(tmp_path, "old.yaml", old_text), write(tmp_path, "new.yaml", new_text)
-    rules = all_rules()
-    ids = [rule.meta.id for rule in rules]
     sources = read_source(str(old)), read_source(str(new))
-    results = [check_loaded(load_plan(source, ids), rules=rules) for source in sources]
+    results = [check_source(source) for source in sources]
     return compare_plans(*sources, *results), sources
 
 
@@ -196,7 +192,7 @@ def test_old_findings_are_not_resolved_when_the_new_version_does_not_load(tmp_pa
     statuses = {s.status for s in comparison.findings}
     assert comparison.with_status("resolved") == ()
     assert [s.finding.rule for s in comparison.with_status("introduced")] == ["schema/wrong-type"]
-    old_count = len(check_loaded(load_plan(read_source(str(tmp_path / "old.yaml")), [r.meta.id for r in all_rules()])).findings)
+    old_count = len(check_source(read_source(str(tmp_path / "old.yaml"))).findings)
     assert len(comparison.with_status("not-rechecked")) == old_count > 20 and statuses == {"introduced", "not-rechecked"}
     run = cli_process("diff", tmp_path / "old.yaml", tmp_path / "new.yaml", "--fail-on-new", "error")
     assert run.returncode == 1 and f"{old_count} not rechecked" in run.stdout

@@ -42,17 +42,17 @@ def test_limits_at_196(pef) -> None:
 def test_approximate_intervals_of_the_limits(pef) -> None:
     # 1986 form: SE = sqrt(3 s^2 / n) = 16.28; 1999 form: SE = s sqrt(1/n + 1.96^2 / (2(n-1))) = 16.40;
     # both with t(16) (Bland & Altman 1986; 1999, Stat Methods Med Res 8:135-160).
-    assert pef.lower.ci_1986.as_list() == pytest.approx([-112.62, -43.58], abs=0.01)
-    assert pef.upper.ci_1986.as_list() == pytest.approx([39.34, 108.38], abs=0.01)
-    assert pef.lower.ci_1999.as_list() == pytest.approx([-112.85, -43.34], abs=0.01)
-    assert pef.upper.ci_1999.as_list() == pytest.approx([39.11, 108.62], abs=0.01)
+    assert [pef.lower.ci_1986.low, pef.lower.ci_1986.high] == pytest.approx([-112.62, -43.58], abs=0.01)
+    assert [pef.upper.ci_1986.low, pef.upper.ci_1986.high] == pytest.approx([39.34, 108.38], abs=0.01)
+    assert [pef.lower.ci_1999.low, pef.lower.ci_1999.high] == pytest.approx([-112.85, -43.34], abs=0.01)
+    assert [pef.upper.ci_1999.low, pef.upper.ci_1999.high] == pytest.approx([39.11, 108.62], abs=0.01)
 
 
 def test_exact_intervals_of_the_limits_carkeet_2015(pef) -> None:
     # Carkeet (2015), Optom Vis Sci 92: exact interval by the noncentral t; for n = 17 the
     # factors on s are 1.3151 and 3.1483, giving (-124.16, -53.10) and (48.86, 119.93) here.
-    assert pef.lower.ci.as_list() == pytest.approx([-124.16, -53.10], abs=0.01)
-    assert pef.upper.ci.as_list() == pytest.approx([48.86, 119.93], abs=0.01)
+    assert [pef.lower.ci.low, pef.lower.ci.high] == pytest.approx([-124.16, -53.10], abs=0.01)
+    assert [pef.upper.ci.low, pef.upper.ci.high] == pytest.approx([48.86, 119.93], abs=0.01)
     assert (pef.upper.ci.low - pef.bias) / pef.sd == pytest.approx(1.3151, abs=1e-4)
     assert (pef.upper.ci.high - pef.bias) / pef.sd == pytest.approx(3.1483, abs=1e-4)
 
