@@ -10,7 +10,6 @@ listed with the reason in words.
 
 from __future__ import annotations
 
-import inspect
 import math
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -186,11 +185,7 @@ class AgreementReport:
 def _krippendorff(values: NDArray[np.float64], level: str, confidence: float, bootstrap: int) -> Any:
     from protolint import stats
 
-    # FEATURE CHECK (statistics core): the replicate count is being renamed ``bootstrap=``;
-    # until that lands it is ``n_boot=``. Remove the fallback once ``bootstrap`` is the only name.
-    parameters = inspect.signature(stats.krippendorff_alpha).parameters
-    name = "bootstrap" if "bootstrap" in parameters else "n_boot"
-    return stats.krippendorff_alpha(values, level=level, confidence=confidence, **{name: bootstrap})
+    return stats.krippendorff_alpha(values, level=level, confidence=confidence, bootstrap=bootstrap)
 
 
 def _category_values(table: RatingTable, declared: Sequence[str] | None) -> tuple[NDArray[np.float64], list[float] | None, tuple[str, ...] | None]:
@@ -362,13 +357,7 @@ def analyse(
 
         def fleiss() -> Coefficient:
             r = stats.fleiss_kappa(coded, confidence=confidence, categories=cats)
-            # FEATURE CHECK (statistics core): Fleiss' kappa for varying numbers of raters per
-            # subject reports ``n_ratings``; the older complete-subject form drops subjects.
-            if hasattr(r, "n_ratings"):
-                n_ratings = int(r.n_ratings)
-            else:
-                dropped_note("Fleiss' kappa", r.n_dropped, r.n_subjects)
-                n_ratings = r.n_subjects * r.n_raters
+            n_ratings = int(r.n_ratings)
             per_category = {_label(c.category, labels): {"value": c.value, "se0": c.se0, "z": c.z} for c in r.categories}
             return judged("fleiss_kappa", r.value, r.ci.low, r.ci.high, r.n_subjects, n_ratings, _CI_GWET, se=r.se,
                           se0=r.se0, z=r.z, p_value=r.p_value, categories=per_category, method=r.method)

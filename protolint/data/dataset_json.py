@@ -17,7 +17,7 @@ import re
 from typing import Any
 
 from protolint.data.source import LINE, RECORD, Cell, SourceTable
-from protolint.data.where import DataError, Where
+from protolint.data.where import DataError, Where, file_error
 
 _VERSION_1_1 = re.compile(r"^1\.1(\.(0|[1-9][0-9]*))?$")
 
@@ -36,14 +36,8 @@ def _read_text(path: str) -> str:
     try:
         with open(path, encoding="utf-8-sig") as stream:
             return stream.read()
-    except FileNotFoundError:
-        raise DataError(Where(path), "no such file") from None
-    except IsADirectoryError:
-        raise DataError(Where(path), "is a directory, expected a data file") from None
-    except UnicodeDecodeError as error:
-        raise DataError(Where(path), f"not UTF-8 text ({error.reason} at byte {error.start})") from None
-    except OSError as error:
-        raise DataError(Where(path), f"cannot read: {error.strerror}") from None
+    except (OSError, UnicodeDecodeError) as error:
+        raise file_error(path, error) from None
 
 
 def _check_metadata(path: str, meta: Any, where: Where) -> tuple[str, tuple[str, ...], int]:

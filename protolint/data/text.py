@@ -5,7 +5,7 @@ from __future__ import annotations
 import csv
 
 from protolint.data.source import LINE, Cell, SourceTable
-from protolint.data.where import DataError, Where
+from protolint.data.where import DataError, Where, file_error
 
 # Delimiters people paste by mistake; naming the one found makes the error actionable.
 OTHER_DELIMITERS = {";": "semicolon", "\t": "tab", "|": "vertical bar"}
@@ -30,14 +30,8 @@ def read_text(path: str, delimiter: str = ",") -> SourceTable:
                         numbers.append(reader.line_num)
             except csv.Error as error:
                 raise DataError(Where(path, str(reader.line_num)), f"malformed CSV: {error}") from None
-    except FileNotFoundError:
-        raise DataError(Where(path), "no such file") from None
-    except IsADirectoryError:
-        raise DataError(Where(path), "is a directory, expected a data file") from None
-    except UnicodeDecodeError as error:
-        raise DataError(Where(path), f"not UTF-8 text ({error.reason} at byte {error.start})") from None
-    except OSError as error:
-        raise DataError(Where(path), f"cannot read: {error.strerror}") from None
+    except (OSError, UnicodeDecodeError) as error:
+        raise file_error(path, error) from None
     if not rows:
         raise DataError(Where(path, "1"), "the file is empty; expected a header row")
     header = tuple(str(cell or "") for cell in rows[0])

@@ -32,3 +32,14 @@ class DataError(LocatedError):
         self.reason = message
         self.where = where
         ProtolintError.__init__(self, f"{where}: {message}")
+
+
+def file_error(path: str, error: OSError | UnicodeDecodeError) -> DataError:
+    """The one-line error for a data file that cannot be opened or decoded as UTF-8 text."""
+    if isinstance(error, UnicodeDecodeError):
+        return DataError(Where(path), f"not UTF-8 text ({error.reason} at byte {error.start})")
+    if isinstance(error, FileNotFoundError):
+        return DataError(Where(path), "no such file")
+    if isinstance(error, IsADirectoryError):
+        return DataError(Where(path), "is a directory, expected a data file")
+    return DataError(Where(path), f"cannot read: {error.strerror}")
