@@ -1,7 +1,8 @@
 """Which optional dependencies ("extras") each command needs, and the one-line hint when absent.
 
-The core install serves pre-commit hooks and CI (`check`, `rules`, `schema`, `init`, `diff`);
-documents and analyses bring heavy stacks and are extras. A command whose extra is missing
+The core install serves pre-commit hooks and CI (`check`, `rules`, `schema`, `init`, `diff`,
+in every format: jinja2 and markdown-it-py are core because the HTML review report and the
+HTML diff use them); documents and analyses bring heavy stacks and are extras. A command whose extra is missing
 fails with one line naming the extra, raised once for all commands by the lazy loader in
 ``protolint.cli``.
 """
@@ -31,7 +32,7 @@ COMMAND_EXTRAS: dict[str, str] = {
 # extra provides names that extra (an analysis writing its report as PDF needs `documents`);
 # one that both provide names the command's own extra.
 MODULE_EXTRAS: dict[str, str] = {
-    "weasyprint": DOCUMENTS, "jinja2": DOCUMENTS, "markdown_it": DOCUMENTS, "icalendar": DOCUMENTS,
+    "weasyprint": DOCUMENTS, "icalendar": DOCUMENTS,
     "openpyxl": ANALYSIS, "pyreadstat": ANALYSIS, "narwhals": ANALYSIS,
 }
 SHARED_MODULES: frozenset[str] = frozenset({"numpy", "scipy", "matplotlib"})

@@ -20,7 +20,7 @@ import pytest
 from packaging.requirements import Requirement
 
 REPO = Path(__file__).resolve().parents[1]
-HEAVY = ("numpy", "scipy", "matplotlib", "weasyprint", "pandas", "jinja2", "openpyxl", "pyreadstat")
+HEAVY = ("numpy", "scipy", "matplotlib", "weasyprint", "pandas", "openpyxl", "pyreadstat")
 
 
 def _core_closure() -> list[metadata.Distribution]:
@@ -99,8 +99,17 @@ def test_core_install_checks_the_demo_without_heavy_packages(core_venv: Path) ->
     assert module.returncode == 0, module.stderr
 
 
+def test_core_install_writes_every_check_format(core_venv: Path) -> None:
+    """Every report format is core, the HTML review report included: a CI job publishes it without extras."""
+    protolint = str(core_venv / "bin" / "protolint")
+    for fmt in ("text", "json", "sarif", "junit", "github", "markdown", "html"):
+        done = _run(core_venv, protolint, "check", "demo_protocol/plan.yaml", "--format", fmt, "--fail-on", "never")
+        assert done.returncode == 0 and done.stdout.strip(), (fmt, done.stderr)
+    assert "<html" in done.stdout.lower()
+
+
 @pytest.mark.parametrize(("args", "extra", "module"), [
-    (("render", "manual", "demo_protocol/plan.yaml", "--output", "never-written.pdf"), "documents", "jinja2"),
+    (("render", "manual", "demo_protocol/plan.yaml", "--output", "never-written.pdf"), "documents", "weasyprint"),
     (("agreement", "demo_protocol/data/certification_hlsc8.csv"), "analysis", "numpy"),
     (("size", "--effect-size", "0.5"), "analysis", "scipy"),
     (("design", "demo_protocol/pilot/pilot_hlsc8_simulated.csv"), "analysis", "numpy"),
