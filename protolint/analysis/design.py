@@ -348,7 +348,7 @@ class Comparison:
 
     def to_json(self) -> dict[str, Any]:
         return {"effect_size": self.effect_size, "alpha": self.alpha, "power": self.power, "sides": self.sides,
-                "ratio": self.ratio, "dropout": self.dropout, "convention": "ctt"}
+                "ratio": self.ratio, "dropout": self.dropout, "convention": "variance-ratio"}
 
 
 @dataclass(frozen=True)
@@ -401,7 +401,7 @@ def evaluate(g: GStudy, coefficient: str, comparison: Comparison, costs: Costs, 
     try:
         size = sample_size_two_group(
             comparison.effect_size, alpha=comparison.alpha, power=comparison.power, sides=comparison.sides,
-            ratio=comparison.ratio, dropout=comparison.dropout, reliability=min(rho, 1.0), convention="ctt")
+            ratio=comparison.ratio, dropout=comparison.dropout, reliability=min(rho, 1.0), convention="variance-ratio")
     except SolverError as error:
         return DesignPoint(raters, occasions, rho, None, None, None, None, str(error))
     cost = size.n_total_enrolled * costs.per_participant(raters, occasions)

@@ -6,13 +6,16 @@ import json
 import shutil
 import textwrap
 from itertools import groupby
-from typing import Any, Sequence
+from typing import TYPE_CHECKING, Any, Sequence
 
 import click
 
 from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 from protolint.rules.registry import RuleMeta, iter_metas, similar_rule_ids
+
+if TYPE_CHECKING:
+    from markdown_it.token import Token
 
 
 def rule_as_dict(meta: RuleMeta) -> dict[str, Any]:
@@ -67,7 +70,7 @@ def _width() -> int:
     return max(40, min(100, shutil.get_terminal_size((100, 24)).columns) - 2)
 
 
-def _inline_text(children) -> str:  # type: ignore[no-untyped-def]
+def _inline_text(children: Sequence[Token] | None) -> str:
     """The text of a Markdown inline run, without its markup: **bold** and `code` read as plain words."""
     parts = []
     for child in children or ():

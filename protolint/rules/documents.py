@@ -112,19 +112,20 @@ def _shorten(value: str, limit: int = 60) -> str:
 def _text_values(node: Any, label: tuple[str, ...]) -> Iterator[tuple[tuple[str | int, ...], tuple[str, ...], str]]:
     """Every text value below ``node`` with its data path and a readable label (ids instead of
     list positions, so the writer sees "instruments SCALE-1 evidence EVIDENCE-1 citation")."""
-    if not dataclasses.is_dataclass(node):
+    if not dataclasses.is_dataclass(node) or isinstance(node, type):
         return
+    base: tuple[str | int, ...] = node.path  # type: ignore[attr-defined]  # every model object keeps its data path
     for field in dataclasses.fields(node):
         if field.name == "path":
             continue
         value = getattr(node, field.name)
         here = label + (field.name,)
         if isinstance(value, str):
-            yield node.path + (field.name,), here, value
+            yield base + (field.name,), here, value
         elif isinstance(value, tuple):
             for index, item in enumerate(value):
                 if isinstance(item, str):
-                    yield node.path + (field.name, index), here, item
+                    yield base + (field.name, index), here, item
                 else:
                     name = getattr(item, "id", None) or getattr(item, "kind", None)
                     yield from _text_values(item, here + ((str(name) if name else f"#{index + 1}"),))

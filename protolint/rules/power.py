@@ -3,7 +3,7 @@
 Random measurement error leaves the difference between arms unbiased but inflates the
 observed standard deviation by 1/sqrt(reliability), so the observed standardised effect is
 d sqrt(rho) and the required N grows as 1/rho (classical test theory; the statistics core's
-"ctt" convention, which is the default of ``protolint size``).
+"variance-ratio" convention, which is the default of ``protolint size``).
 """
 
 from __future__ import annotations
@@ -115,7 +115,7 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
         "endpoint": endpoint.id, "effect_size": d, "effect_basis": size.effect_basis, "effect_size_true": round(d_true, 4),
         "alpha": size.alpha, "sides": sides, "power": size.power, "allocation_ratio": ratio, "dropout": dropout,
         "evidence": found.evidence.id, "single_rating_reliability": round(found.single, 4),
-        "ratings_averaged": found.ratings, "reliability": round(rho, 4), "assumed_reliability": size.assumed_reliability,
+        "ratings_averaged": found.ratings, "reliability": round(rho, 6), "assumed_reliability": size.assumed_reliability,
         "effect_size_observed": round(d_obs, 4),
         "formula": "n1 = (z(1-alpha/sides) + z(power))^2 (1 + 1/ratio) / d_obs^2 + z(1-alpha/sides)^2 / 4 (Guenther 1981); "
                    "d_obs = d_true sqrt(reliability); enrolled = ceil(n / (1 - dropout))",
@@ -123,7 +123,9 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
         "n_total_stated": size.stated_n_total, "shortfall": shortfall, "power_at_stated_n": round(power_stated, 3),
     }
     yield Hit(size.path + ("stated_n_total",),
-              f"endpoint {endpoint.id} is rated with reliability {fmt(rho)} (evidence {found.evidence.id}, "
+              # Six significant figures: the N below is computed from this value, and a reader who re-runs
+              # `protolint size` with a 3-decimal rounding can land a few participants away from it.
+              f"endpoint {endpoint.id} is rated with reliability {rho:.6g} (evidence {found.evidence.id}, "
               f"{plural(found.ratings, 'rating')} per assessment); with d = {fmt(d)} {basis}, the observed effect is "
               f"{fmt(d_obs)} and {needed} participants are needed ({groups.n1} + {groups.n2} analysable, {fmt(dropout)} "
               f"dropout), not {size.stated_n_total}: {shortfall} short, and the stated N gives about {power_stated:.0%} "

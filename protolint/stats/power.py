@@ -340,7 +340,7 @@ def sample_size_two_group(
     -----
     Smallest n1 such that the exact noncentral-t power with n2 = ceil(ratio n1) reaches the
     target; ``n_exact`` is the continuous n1 with n2 = ratio n1. d = 0.5, two-sided alpha .05, power .80 gives 64 per group at reliability 1
-    (Cohen 1988, Table 2.4.1); under "ctt" 80 per group at rho = .8.
+    (Cohen 1988, Table 2.4.1); under "variance-ratio" 80 per group at rho = .8.
 
     References
     ----------

@@ -183,7 +183,7 @@ def test_plan_supplies_the_comparison_and_judges_its_own_design() -> None:
                       "--cost-occasion", "350")
     # The demo plan: d = 0.45 on the true-score scale, alpha .05 two-sided, power .90, dropout 15 %.
     assert report["comparison"] == {"effect_size": 0.45, "alpha": 0.05, "power": 0.9, "sides": 2, "ratio": 1.0,
-                                    "dropout": 0.15, "convention": "ctt"}
+                                    "dropout": 0.15, "convention": "variance-ratio"}
     # EP-PRIMARY's total decides eligibility and response: absolute error, Phi.
     assert report["coefficient"] == "phi" and "individual" in report["coefficient_reason"]
     # The simulated pilot's rater x occasion estimate is negative: reported, zeroed and used as zero.
