@@ -188,6 +188,12 @@ def _krippendorff(values: NDArray[np.float64], level: str, confidence: float, bo
     return stats.krippendorff_alpha(values, level=level, confidence=confidence, bootstrap=bootstrap)
 
 
+def _ratings_not_declared(unknown: Sequence[str], declared: Sequence[str]) -> str:
+    one = len(unknown) == 1
+    return (f"{'rating' if one else 'ratings'} {', '.join(unknown)} {'is' if one else 'are'} not among the "
+            f"declared categories {', '.join(declared)}")
+
+
 def _category_values(table: RatingTable, declared: Sequence[str] | None) -> tuple[NDArray[np.float64], list[float] | None, tuple[str, ...] | None]:
     """The ratings recoded for the declared categories, the category values, and the labels."""
     import numpy as np
@@ -198,7 +204,7 @@ def _category_values(table: RatingTable, declared: Sequence[str] | None) -> tupl
     if table.labels is not None:
         unknown = sorted(set(table.labels) - set(declared))
         if unknown:
-            raise ProtolintError(f"{table.path}: rating(s) {', '.join(unknown)} are not among the declared categories {', '.join(declared)}")
+            raise ProtolintError(f"{table.path}: {_ratings_not_declared(unknown, declared)}")
         recode = np.array([declared.index(label) for label in table.labels], dtype=float)
         out = np.full(values.shape, np.nan)
         present = ~np.isnan(values)
@@ -211,10 +217,7 @@ def _category_values(table: RatingTable, declared: Sequence[str] | None) -> tupl
     observed = set(np.unique(values[~np.isnan(values)]).tolist())
     unknown = sorted(observed - set(numbers))
     if unknown:
-        raise ProtolintError(
-            f"{table.path}: rating(s) {', '.join(f'{u:g}' for u in unknown)} are not among the declared categories "
-            f"{', '.join(declared)}"
-        )
+        raise ProtolintError(f"{table.path}: {_ratings_not_declared([f'{u:g}' for u in unknown], declared)}")
     return values, numbers, None
 
 

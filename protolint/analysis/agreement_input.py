@@ -9,6 +9,7 @@ import re
 from typing import TYPE_CHECKING
 
 from protolint.errors import LocatedError, ProtolintError
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.data import RatingTable, ReadOptions
@@ -107,7 +108,7 @@ def _expand_table(table: RatingTable) -> RatingTable:
     counts = table.values.astype(int)
     pairs = [(row_values[i], col_values[j]) for i in range(counts.shape[0]) for j in range(counts.shape[1]) for _ in range(counts[i, j])]
     if len(pairs) < 2:
-        raise LocatedError(table.path, 1, None, f"the table counts {len(pairs)} subject(s); at least 2 are needed")
+        raise LocatedError(table.path, 1, None, f"the table counts {plural(len(pairs), 'subject')}; at least 2 are needed")
     values = np.array(pairs, dtype=float)
     return RatingTable(
         path=table.path,

@@ -24,6 +24,7 @@ import numpy as np
 from protolint import CAUTION
 from protolint.errors import LocatedError, ProtolintError
 from protolint.stats.gtheory import DESIGNS, GStudy, g_study
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.analysis.design_plan import PlanInputs
@@ -179,7 +180,7 @@ def pilot_from_rows(path: str, rows: list[tuple[int, list[str]]]) -> PilotRating
         scores.append(score)
         lines.append(line)
     if len(subject_ids) < 2:
-        raise LocatedError(path, rows[-1][0], None, f"found {len(subject_ids)} subject(s) with a score; a G-study needs at least 2")
+        raise LocatedError(path, rows[-1][0], None, f"found {plural(len(subject_ids), 'subject')} with a score; a G-study needs at least 2")
     return PilotRatings(
         path=path,
         subjects=tuple(subject_ids),
@@ -226,9 +227,9 @@ class Dropped:
     def note(self) -> str | None:
         parts = []
         if self.missing_scores:
-            parts.append(f"{self.missing_scores} row(s) with an empty score ignored")
+            parts.append(f"{plural(self.missing_scores, 'row')} with an empty score ignored")
         if self.subjects:
-            parts.append(f"dropped {len(self.subjects)} subject(s) {self.reason}; {self.used} of {self.of} used")
+            parts.append(f"dropped {plural(len(self.subjects), 'subject')} {self.reason}; {self.used} of {self.of} used")
         return "; ".join(parts) or None
 
     def to_json(self) -> dict[str, Any]:
@@ -300,8 +301,8 @@ def arrange(pilot: PilotRatings, design: str | None = None) -> Arrangement:
     if kept.size < 2:
         per_rater = np.bincount(pilot.rater, minlength=len(pilot.raters))
         hint = f" (no rater rated more than one subject: use {nested_hint})" if detect_design(pilot) == "r:p" else (
-            f"; the fewest-rated rater, {pilot.raters[int(per_rater.argmin())]!r}, has {int(per_rater.min())} "
-            f"rating(s); if raters differ between subjects, {nested_hint}")
+            f"; the fewest-rated rater, {pilot.raters[int(per_rater.argmin())]!r}, has "
+            f"{plural(int(per_rater.min()), 'rating')}; if raters differ between subjects, {nested_hint}")
         raise ProtolintError(
             f"{pilot.path}: only {kept.size} of {n_subjects} subjects have a score in every {cells} cell; "
             f"design {chosen} needs at least 2 complete subjects{hint}")
@@ -323,7 +324,7 @@ def _arrange_nested(pilot: PilotRatings, detected: bool, notes: list[str]) -> Ar
                              "needs at least 2 ratings per subject")
     keep = np.flatnonzero(counts == n_r)
     if keep.size < 2:
-        raise ProtolintError(f"{pilot.path}: only {keep.size} subject(s) have {n_r} ratings; r:p needs at least 2")
+        raise ProtolintError(f"{pilot.path}: only {plural(int(keep.size), 'subject')} {'has' if keep.size == 1 else 'have'} {n_r} ratings; r:p needs at least 2")
     order = np.argsort(pilot.subject, kind="stable")
     by_subject = np.split(pilot.score[order], np.cumsum(counts)[:-1])
     array = np.stack([by_subject[i] for i in keep])

@@ -16,6 +16,7 @@ from protolint.plan.model import Endpoint, Plan
 # Plan facts (the reliability the plan's evidence supports, the true-score effect, individual use)
 # come from this one import; when they move into protolint.plan only this line changes.
 from protolint.plan.reliability import individual_use, trial_reliability, true_effect_size
+from protolint.wording import plural
 
 
 @dataclass(frozen=True)
@@ -53,7 +54,8 @@ def coefficient_for_endpoint(plan: Plan, endpoint: Endpoint) -> tuple[str, str]:
         return "phi", "any certified rater may rate a participant (raters differ between participants)"
     pool = plan.pool(endpoint.rater_pool)
     if pool.is_central and pool.raters_per_site == endpoint.raters_per_assessment:
-        return "g", f"the same {pool.raters_per_site} central rater(s) rate every participant (relative error only)"
+        return "g", (f"the same {plural(pool.raters_per_site, 'central rater')} "
+                     f"{'rates' if pool.raters_per_site == 1 else 'rate'} every participant (relative error only)")
     if pool.location == "site":
         return "phi", "raters work at the sites, so they differ between participants"
     return "phi", "the plan does not say that the same raters rate every participant"

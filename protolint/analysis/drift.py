@@ -46,6 +46,7 @@ from protolint.errors import LocatedError, ProtolintError
 # with the checklist and the calendar; this is the one place this module imports them from.
 from protolint.plan.timeline import add_months
 from protolint.plan.monitoring import CENTRAL, MonitoringRound, monitoring_rounds
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.data.roles import ReadOptions
@@ -701,7 +702,7 @@ def _judge(result: Agreement, rule: PassRule) -> tuple[bool | None, bool, tuple[
     """Pass or fail by ``rule``; ``marginal`` when a coefficient passes on its estimate but more
     than half of its confidence interval lies below the minimum."""
     if result.cases < MIN_CASES:
-        return None, False, (f"only {result.cases} case(s); at least {MIN_CASES} are needed to judge",)
+        return None, False, (f"only {plural(result.cases, 'case')}; at least {MIN_CASES} are needed to judge",)
     verdicts: list[bool] = []
     reasons: list[str] = []
     marginal = False
@@ -876,7 +877,7 @@ def analyse(data: RatingData, loaded: LoadedPlan | None, options: Options) -> Dr
             raise ProtolintError(f"drift: cannot estimate the scale of {instrument} from the certification ratings "
                                  f"(pooled SD {sd:g} on {df} degrees of freedom); give --scale-sd")
         scale_sd[instrument] = (sd, f"pooled within-rater SD of certification deviations, {len(chosen)} "
-                                    f"{'certified ' if passed else ''}rater(s), {df} df")
+                                    f"{'certified ' if passed else ''}{'rater' if len(chosen) == 1 else 'raters'}, {df} df")
 
     roster = {r.id: r for r in plan.roster} if plan else {}
     results: list[RaterResult] = []
@@ -969,7 +970,7 @@ def analyse(data: RatingData, loaded: LoadedPlan | None, options: Options) -> Dr
         roster_missing = tuple(sorted(r.id for r in plan.roster if r.pool in pools_seen and r.id not in seen))
         not_on_roster = tuple(sorted(rater for rater in seen if rater not in roster))
     if ignored:
-        notes.append(f"{ignored} rating(s) dated after {as_of} were left out")
+        notes.append(f"{plural(ignored, 'rating')} dated after {as_of} {'was' if ignored == 1 else 'were'} left out")
     due.sort(key=lambda d: (not d.overdue, d.due, d.rater))
     return DriftReport(
         as_of=as_of, data_file=data.file, data_sha256=data.sha256,

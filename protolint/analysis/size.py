@@ -17,6 +17,7 @@ import click
 
 from protolint import CAUTION
 from protolint.errors import ProtolintError
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.stats import study_size as stats_study
@@ -282,7 +283,7 @@ def render_text(report: dict[str, Any]) -> str:
         src = report["reliability_from"]
         rows.append((
             "  Spearman-Brown from one rating",
-            f"{src['single_reliability']:g} x {src['raters']} rater(s) x {src['occasions']} occasion(s)",
+            f"{src['single_reliability']:g} x {plural(src['raters'], 'rater')} x {plural(src['occasions'], 'occasion')}",
         ))
     if two_group:
         rows.append(("Attenuation convention", _CONVENTION_TEXT[report["convention"]]))

@@ -9,6 +9,7 @@ import click
 from protolint import CAUTION
 from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
+from protolint.wording import plural
 
 FORMATS = ("text", "json", "html", "pdf")
 
@@ -39,8 +40,8 @@ def render_text(report: dict[str, Any]) -> str:
     """The plain-text report."""
     lines = [f"G-study of {report['file']}: design {report['design']}"
              f" ({'detected from the data' if report['design_detected'] else 'as given with --design'})",
-             f"  {report['subjects']} subjects, {report['raters']} rater(s){' per subject' if report['design'] == 'r:p' else ''}, "
-             f"{report['occasions']} occasion(s); grand mean {_num(report['grand_mean'])}"]
+             f"  {report['subjects']} subjects, {plural(report['raters'], 'rater')}{' per subject' if report['design'] == 'r:p' else ''}, "
+             f"{plural(report['occasions'], 'occasion')}; grand mean {_num(report['grand_mean'])}"]
     note = report["dropped"]["note"]
     if note:
         lines.append(f"  {note}")
@@ -68,7 +69,7 @@ def render_text(report: dict[str, Any]) -> str:
         if opt is None:
             lines.append("No searched design reaches the power.")
         else:
-            lines += ["", f"Cheapest design: {opt['raters']} rater(s) x {opt['occasions']} occasion(s), "
+            lines += ["", f"Cheapest design: {plural(opt['raters'], 'rater')} x {plural(opt['occasions'], 'occasion')}, "
                           f"N = {opt['n_total_enrolled']} to enrol ({opt['n_total']} analysable), cost {_money(opt['cost'])}, "
                           f"reliability {_num(opt['reliability'])}, power {_num(opt['power'])}"]
             base = report["baseline"]
@@ -88,8 +89,8 @@ def render_text(report: dict[str, Any]) -> str:
                          f"{_num(p['power']):>6} {_money(p['cost']):>14}")
     plan = report.get("plan")
     if plan:
-        lines += ["", f"The plan ({plan['file']}, endpoint {plan['endpoint']}): {plan['raters']} rater(s) x "
-                      f"{plan['occasions']} occasion(s); effect {plan['effect_basis']}"]
+        lines += ["", f"The plan ({plan['file']}, endpoint {plan['endpoint']}): {plural(plan['raters'], 'rater')} x "
+                      f"{plural(plan['occasions'], 'occasion')}; effect {plan['effect_basis']}"]
         if plan["design_note"]:
             lines.append(f"  {plan['design_note']}")
         if plan["evidence_reliability"] is not None:
@@ -168,7 +169,8 @@ def command(
     if plan_file is not None:
         given = [name for name, value in comparison_options.items() if value is not None]
         if given:
-            raise ProtolintError(f"{', '.join(given)} come(s) from the plan's sample_size with --plan; drop them or drop --plan")
+            raise ProtolintError(f"{', '.join(given)} {'comes' if len(given) == 1 else 'come'} from the plan's sample_size with --plan; "
+                                 f"drop {'it' if len(given) == 1 else 'them'} or drop --plan")
         from protolint.analysis.design_plan import plan_inputs
 
         plan = plan_inputs(plan_file)
@@ -180,7 +182,7 @@ def command(
     else:
         given = [name for name, value in comparison_options.items() if value is not None]
         if given:
-            raise ProtolintError(f"{', '.join(given)} need(s) --effect-size (or --plan)")
+            raise ProtolintError(f"{', '.join(given)} {'needs' if len(given) == 1 else 'need'} --effect-size (or --plan)")
     ratings = analysis.read_pilot(pilot)
     report = analysis.analyse(
         ratings, design=design, coefficient=coefficient, comparison=comparison,

@@ -13,6 +13,7 @@ from protolint import CAUTION
 from protolint.commands._shared import OneLineCommand, emit, to_json
 from protolint.data.options import reader_options
 from protolint.errors import ProtolintError
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.analysis.drift import DriftReport
@@ -116,7 +117,7 @@ def render_text(report: DriftReport) -> str:
         where = f"site {g.site}" if g.site else "all raters"
         signal = f"signal on {g.first_signal} ({g.direction})" if g.first_signal else "no signal"
         left = f" (+{g.left_out} left out)" if g.left_out else ""
-        lines.append(f"  {g.instrument} {where}: {g.raters} rater(s){left}, {g.periods} period(s), mean deviation "
+        lines.append(f"  {g.instrument} {where}: {plural(g.raters, 'rater')}{left}, {plural(g.periods, 'period')}, mean deviation "
                      f"{_num(g.mean_deviation)}; {signal}")
 
     lines += ["", "RULES IN FORCE"]

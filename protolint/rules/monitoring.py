@@ -9,7 +9,7 @@ from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, ro
 from protolint.rules import sources as S
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 from protolint.rules.sources import cite
-from protolint.rules.wording import plural
+from protolint.wording import plural
 
 
 @rule("monitoring/none-planned", "error",

@@ -15,7 +15,7 @@ from protolint.plan.reliability import individual_use, trial_reliability, true_e
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
-from protolint.rules.wording import plural
+from protolint.wording import plural
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 _RECOMPUTED = ("two-group-difference",)

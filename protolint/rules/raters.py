@@ -8,7 +8,7 @@ from protolint.plan.model import Plan, RaterCertification
 from protolint.plan.timeline import certification_expiry
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
-from protolint.rules.wording import plural
+from protolint.wording import plural
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 

@@ -9,7 +9,7 @@ from protolint.plan.model import Plan, RaterPool
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
-from protolint.rules.wording import plural
+from protolint.wording import plural
 from protolint.rules.registry import Hit, RuleContext, Threshold, rule
 
 # Amendment changes that alter what a rater does; a change of rated visits alone does not.

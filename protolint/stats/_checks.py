@@ -11,6 +11,8 @@ import numbers
 from collections.abc import Sequence
 from typing import TYPE_CHECKING
 
+from protolint.wording import plural
+
 # numpy is imported inside the array helpers only: the scalar checks serve the closed-form
 # formulas (Spearman-Brown, Bonett, SEM) that `protolint check` uses without loading numpy.
 if TYPE_CHECKING:
@@ -103,7 +105,7 @@ def matrix(name: str, data: ArrayLike, *, min_rows: int = 2, min_cols: int = 2) 
     except (TypeError, ValueError) as exc:
         raise TypeError(f"{name} must be a numeric 2-D array (NaN = missing): {exc}") from None
     if arr.ndim != 2:
-        raise ValueError(f"{name} must be a 2-D array (subjects x raters), got {arr.ndim} dimension(s)")
+        raise ValueError(f"{name} must be a 2-D array (subjects x raters), got {plural(arr.ndim, 'dimension')}")
     if np.isinf(arr).any():
         raise ValueError(f"{name} must not contain infinite values")
     if arr.shape[1] < min_cols:
@@ -119,14 +121,14 @@ def complete_rows(name: str, arr: NDArray[np.float64], *, min_rows: int = 2) -> 
 
     if not math.isnan(float(arr.sum())):  # no missing cell (matrix() refuses infinities)
         if arr.shape[0] < min_rows:
-            raise ValueError(f"{name} has {arr.shape[0]} complete row(s); at least {min_rows} are needed")
+            raise ValueError(f"{name} has {plural(arr.shape[0], 'complete row')}; at least {min_rows} are needed")
         return arr, 0
     keep = ~np.isnan(arr).any(axis=1)
     kept = arr[keep]
     dropped = int(arr.shape[0] - kept.shape[0])
     if kept.shape[0] < min_rows:
         raise ValueError(
-            f"{name} has {kept.shape[0]} complete row(s) after dropping {dropped} with missing cells; "
+            f"{name} has {plural(kept.shape[0], 'complete row')} after dropping {dropped} with missing cells; "
             f"at least {min_rows} are needed"
         )
     return kept, dropped
@@ -171,8 +173,8 @@ def encode(
     if unknown.any():
         shown = np.unique(pooled[unknown])[:5]
         raise ValueError(
-            f"{name} contains value(s) {', '.join(f'{u:g}' for u in shown)} "
-            f"that are not in categories {[float(c) for c in cats]}"
+            f"{name} contains {'a value' if shown.size == 1 else 'values'} {', '.join(f'{u:g}' for u in shown)} "
+            f"that {'is' if shown.size == 1 else 'are'} not in categories {[float(c) for c in cats]}"
         )
     codes[present] = index
     return cats, codes

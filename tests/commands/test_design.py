@@ -16,6 +16,7 @@ from protolint import CAUTION
 from protolint.cli import main
 from protolint.stats import power_two_group
 from protolint.stats.gtheory import g_study
+from protolint.wording import plural
 
 ROOT = Path(__file__).parents[2]
 BRENNAN = ROOT / "tests" / "data" / "reference" / "A_brennan2001_synthetic3_pxixo_long.csv"
@@ -80,7 +81,7 @@ def test_missing_cells_drop_subjects_and_say_so(tmp_path: Path, brennan_rows: li
     dropped = report["dropped"]
     assert (dropped["subjects"], dropped["used"], dropped["of"]) == (2, 8, 10)
     assert dropped["ids"] == ["3", "7"] and dropped["missing_scores"] == 1
-    assert "dropped 2 subject(s) with missing rater x occasion cells; 8 of 10 used" in dropped["note"]
+    assert "dropped 2 subjects with missing rater x occasion cells; 8 of 10 used" in dropped["note"]
     # The components are those of the 8 complete subjects.
     full = np.zeros((10, 4, 2))
     for p, i, o, s in brennan_rows:
@@ -210,7 +211,7 @@ def test_coefficient_follows_the_rating_arrangement() -> None:
     assert coefficient_for_endpoint(plan, photo)[0] == "phi"  # rotating central readers
     # The whole central panel of 4 reads every photograph, and no individual decision: relative error.
     panel = dataclasses.replace(photo, rater_assignment=None, raters_per_assessment=4)
-    assert coefficient_for_endpoint(plan, panel) == ("g", "the same 4 central rater(s) rate every participant (relative error only)")
+    assert coefficient_for_endpoint(plan, panel) == ("g", "the same 4 central raters rate every participant (relative error only)")
     assert coefficient_for_endpoint(plan, dataclasses.replace(panel, raters_per_assessment=2))[0] == "phi"
 
 
@@ -221,7 +222,7 @@ def test_coefficient_follows_the_rating_arrangement() -> None:
     ("subject,rater,score\nA,R1,3\nA,R2,high\n", "pilot.csv:3:0: score 'high' is not a number"),
     ("subject,rater,score\nA,R1,3\nB,R1,4\nA,R1,5\n", "pilot.csv:4:0: subject 'A', rater 'R1' is already rated on line 2"),
     ("subject,rater,score\nA,,3\n", "pilot.csv:2:0: empty rater"),
-    ("subject,rater,score\nA,R1,3\nA,R2,4\n", "pilot.csv:3:0: found 1 subject(s)"),
+    ("subject,rater,score\nA,R1,3\nA,R2,4\n", "pilot.csv:3:0: found 1 subject with a score"),
     ("subject;rater;score\nA;R1;3\n", "pilot.csv:1:0: the header is one field"),
     ("subject,rater,score\nA,R1,inf\n", "pilot.csv:2:0: score 'inf' is not a finite number"),
 ])
@@ -249,8 +250,8 @@ def test_data_that_cannot_support_the_design_is_refused(tmp_path: Path, cli_proc
 
 
 @pytest.mark.parametrize(("args", "message"), [
-    (("--plan", str(DEMO_PLAN), "--effect-size", "0.4"), "--effect-size come(s) from the plan"),
-    (("--power", "0.9",), "--power need(s) --effect-size"),
+    (("--plan", str(DEMO_PLAN), "--effect-size", "0.4"), "--effect-size comes from the plan"),
+    (("--power", "0.9",), "--power needs --effect-size"),
     (("--effect-size", "0.4"), "give at least one cost"),
     (("--format", "pdf"), "--format pdf needs --output"),
     (("--effect-size", "0.4", "--cost-participant", "1", "--alpha", "2"), "alpha"),
@@ -306,7 +307,7 @@ def test_text_report_names_the_optimum_the_saving_and_the_plan() -> None:
                       "--cost-occasion", "350")
     opt = report["optimum"]
     assert code == 0
-    assert f"Cheapest design: {opt['raters']} rater(s) x {opt['occasions']} occasion(s), N = {opt['n_total_enrolled']}" in out
+    assert f"Cheapest design: {plural(opt['raters'], 'rater')} x {plural(opt['occasions'], 'occasion')}, N = {opt['n_total_enrolled']}" in out
     assert f"saves {report['saving']['cost']:,.0f}" in out
     assert "negative estimate" in out and "set to 0" in out
     assert f"on the frontier: {'yes' if report['plan']['on_frontier'] else 'no'}" in out

@@ -73,7 +73,7 @@ def test_fleiss_with_declared_categories(seed: int, missing: float) -> None:
 
 
 def test_values_outside_the_declared_set_are_refused() -> None:
-    with pytest.raises(ValueError, match=r"value\(s\) 5 that are not in categories"):
+    with pytest.raises(ValueError, match=r"a value 5 that is not in categories"):
         gwet_ac1(_data(67, 20, 3), categories=[1.0, 2.0, 3.0, 4.0])
     with pytest.raises(ValueError, match="categories must not be empty"):
         fleiss_kappa(_data(67, 20, 3), categories=[])

@@ -1,4 +1,4 @@
-"""Small wording helpers so that every rule message counts and quotes the same way.
+"""Small wording helpers so that every message (rules, reports, analyses) counts the same way.
 
 Style (see DEVELOPERS.md "Messages"): "1 rating", "3 ratings", never "rating(s)"; a number
 carries its unit and what it is compared with; percentages are written "95%".
