@@ -54,9 +54,9 @@ def command(
     (--convention variance-ratio, d * sqrt(reliability), as `check` does); --convention
     observed-true-correlation uses d * reliability. Correlation design:
     Fisher z with r * sqrt(reliability * reliability-other). Numbers are rounded up and
-    reported with the power they achieve. JSON keys beyond the contract: achieved_power,
-    dropout, n_total_enrolled, n_per_group_enrolled, ratio, convention, method, curve,
-    at_given_n, reliability_study, effect_basis (and with observed: effect_size_stated,
+    reported with the power they achieve. The JSON report gives, beside the sample size:
+    achieved_power, dropout, n_total_enrolled, n_per_group_enrolled, ratio, convention, method,
+    curve, at_given_n, reliability_study, effect_basis (and with observed: effect_size_stated,
     source_reliability).
 
     \b
