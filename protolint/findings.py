@@ -114,11 +114,82 @@ class PlanResult:
 
 
 @dataclass(frozen=True)
+class PolicyRecord:
+    """Which policy a check ran under, as every report and document records it.
+
+    ``file`` is the policy file as given (None for the built-in default), ``sha256`` the hash of
+    its bytes, ``disabled`` the rules it switched off and ``changed`` what it set for each rule:
+    ``{"severity": {"from": "error", "to": "warning"}, "thresholds": {name: {"from": 26, "to": 12}}}``.
+    A reader years later can then tell a finding that was never looked for from one that was absent.
+    """
+
+    file: str | None = None
+    sha256: str | None = None
+    disabled: tuple[str, ...] = ()
+    changed: Mapping[str, Mapping[str, Any]] = field(default_factory=dict)
+
+    @property
+    def is_default(self) -> bool:
+        return self.file is None and not self.disabled and not self.changed
+
+    @property
+    def name(self) -> str:
+        """The file as given, "default" for the built-in policy, or a note for a policy made in code."""
+        if self.file is not None:
+            return self.file
+        return "default" if self.is_default else "a policy given in code (no file)"
+
+    def changes(self) -> tuple[str, ...]:
+        """Each change in words: "switched off a/b", "a/b severity error → warning", "a/b threshold x 26 → 12"."""
+        parts = ["switched off " + ", ".join(self.disabled)] if self.disabled else []
+        for rule, settings in self.changed.items():
+            severity = settings.get("severity")
+            if severity:
+                parts.append(f"{rule} severity {severity['from']} → {severity['to']}")
+            for name, change in (settings.get("thresholds") or {}).items():
+                parts.append(f"{rule} threshold {name} {_number(change['from'])} → {_number(change['to'])}")
+        return tuple(parts)
+
+    def describe(self) -> str:
+        """The policy in one phrase, for reports and documents: "the default policy (no policy
+        file)", or "policy strict.yaml (SHA-256 …): switched off …; … severity error → warning"."""
+        if self.is_default:
+            return "the default policy (no policy file)"
+        head = f"policy {self.name}" + (f" (SHA-256 {self.sha256})" if self.sha256 else "")
+        changes = self.changes()
+        return head + (": " + "; ".join(changes) if changes else ", which changes no rule")
+
+    def to_json(self) -> dict[str, Any]:
+        return {"file": self.name, "sha256": self.sha256, "disabled": list(self.disabled),
+                "changed": {rule: dict(settings) for rule, settings in self.changed.items()}}
+
+
+DEFAULT_POLICY_RECORD = PolicyRecord()
+
+
+def _number(value: Any) -> str:
+    return "none" if value is None else f"{value:g}" if isinstance(value, float) else str(value)
+
+
+@dataclass(frozen=True)
 class CheckResult:
     """Everything ``protolint check`` produced, handed to a reporter."""
 
     plans: tuple[PlanResult, ...]
     tool_version: str
+    policy: PolicyRecord = DEFAULT_POLICY_RECORD
+    """The policy every plan of this result was checked under."""
+    as_of: str | None = None
+    """The date given with ``--as-of`` (ISO), or None when each plan was checked as of its own
+    ``plan_date`` (each :class:`PlanResult` records the date it was checked as of)."""
+
+    @property
+    def as_of_in_force(self) -> str | None:
+        """The one date every plan was checked as of, or None when the plans' dates differ."""
+        if self.as_of is not None:
+            return self.as_of
+        dates = {plan.as_of for plan in self.plans if plan.as_of}
+        return dates.pop() if len(dates) == 1 else None
 
     def counts(self) -> dict[str, int]:
         counts = {"error": 0, "warning": 0, "note": 0, "waived": 0}

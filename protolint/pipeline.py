@@ -7,7 +7,12 @@ functions, so a plan gets the same findings whichever way it is checked:
   :class:`~protolint.findings.CheckResult` every report is made from;
 * :func:`check_source` checks one plan already read into a located tree (a document that has
   its plan in memory);
-* :func:`check_text` checks plan text (tests, editors, other tools).
+* :func:`check_text` checks plan text (tests, editors, other tools);
+* :func:`check_plan` checks a plan already loaded (``render`` and ``calendar``, which load
+  the plan once for the document and its check).
+
+Every result records the policy it was checked under (:func:`policy_record`) and the as-of
+date, so a report or a document filed years later says how it was checked.
 
 Nothing here imports numpy, scipy, matplotlib or weasyprint: ``check`` runs in pre-commit hooks.
 """
@@ -18,9 +23,10 @@ import os
 from datetime import date
 from typing import TYPE_CHECKING, Iterable, Union
 
-from protolint.findings import CheckResult, PlanResult
+from protolint.findings import CheckResult, PlanResult, PolicyRecord
 
 if TYPE_CHECKING:
+    from protolint.plan import LoadedPlan
     from protolint.plan.source import LoadedSource
     from protolint.rules.policy import Policy
     from protolint.rules.registry import RuleMeta
@@ -50,7 +56,7 @@ def check_files(paths: Iterable[str | os.PathLike[str]], policy: PolicyArg = Non
             unreadable.append(error)
     if unreadable:
         raise InputErrors(unreadable)
-    return result_of(check_source(source, chosen, as_of) for source in sources)
+    return result_of((check_source(source, chosen, as_of) for source in sources), chosen, as_of)
 
 
 def check_source(source: LoadedSource, policy: PolicyArg = None, as_of: date | None = None) -> PlanResult:
@@ -59,6 +65,13 @@ def check_source(source: LoadedSource, policy: PolicyArg = None, as_of: date | N
     from protolint.rules.engine import check_loaded
 
     return check_loaded(load_plan(source), resolve_policy(policy), as_of)
+
+
+def check_plan(loaded: LoadedPlan, policy: PolicyArg = None, as_of: date | None = None) -> PlanResult:
+    """Check a plan already loaded (validated and built): the rules, the policy and the waivers."""
+    from protolint.rules.engine import check_loaded
+
+    return check_loaded(loaded, resolve_policy(policy), as_of)
 
 
 def check_text(text: str | bytes, name: str = "plan.yaml", policy: PolicyArg = None,
@@ -70,11 +83,20 @@ def check_text(text: str | bytes, name: str = "plan.yaml", policy: PolicyArg = N
     return check_source(load_source(raw, name), policy, as_of)
 
 
-def result_of(plans: Iterable[PlanResult]) -> CheckResult:
-    """The :class:`CheckResult` of some checked plans, stamped with this version of the tool."""
+def result_of(plans: Iterable[PlanResult], policy: PolicyArg = None, as_of: date | None = None) -> CheckResult:
+    """The :class:`CheckResult` of some checked plans, stamped with this version of the tool,
+    the policy they were checked under and the ``as_of`` date given (None: each plan's own)."""
     from protolint import __version__
 
-    return CheckResult(plans=tuple(plans), tool_version=__version__)
+    return CheckResult(plans=tuple(plans), tool_version=__version__, policy=policy_record(policy),
+                       as_of=as_of.isoformat() if as_of else None)
+
+
+def policy_record(policy: PolicyArg) -> PolicyRecord:
+    """What a report records of ``policy``: its file and SHA-256 (or "default"), the rules it
+    switched off, and the severities and thresholds it changed from the rules' defaults."""
+    chosen = resolve_policy(policy)
+    return chosen.record({meta.id: meta for meta in rule_metas()})
 
 
 def resolve_policy(policy: PolicyArg) -> Policy:

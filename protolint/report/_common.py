@@ -12,7 +12,7 @@ from protolint.errors import escape_control
 from protolint.errors import one_line as one_line  # re-exported for the formatters
 
 if TYPE_CHECKING:
-    from protolint.findings import Finding, PlanResult
+    from protolint.findings import CheckResult, Finding, PlanResult
     from protolint.rules.registry import RuleMeta
 
 FINGERPRINT_KEY = "protolintFinding/v1"
@@ -49,6 +49,13 @@ def not_run_note(plan: PlanResult, *, with_ids: bool = False) -> str | None:
     if with_ids:
         note += ": " + ", ".join(plan.rules_not_run)
     return note
+
+
+def check_basis(result: CheckResult) -> str:
+    """"Checked as of 2026-07-15 under the default policy (no policy file)." for every
+    human-readable report: the date and the policy that decided which findings exist."""
+    when = result.as_of_in_force
+    return f"Checked {'as of ' + when if when else 'as of each plan' + chr(39) + 's own date'} under {result.policy.describe()}."
 
 
 def plan_counts(plan: PlanResult) -> dict[str, int]:

@@ -13,7 +13,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING, Sequence
 
 from protolint import CAUTION
-from protolint.report._common import counts_phrase, forward_slashes, not_run_note
+from protolint.report._common import check_basis, counts_phrase, forward_slashes, not_run_note
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult
@@ -46,5 +46,6 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
             properties.append(f"title={escape_property(finding.rule)}")
             lines.append(f"::{_LEVEL[finding.severity.label]} {','.join(properties)}::{escape_data(finding.message)}")
     lines.append(f"protolint: {escape_data(counts_phrase(result.counts()))}")
+    lines.append(f"protolint: {escape_data(check_basis(result))}")
     lines.append(f"protolint: caution: {escape_data(CAUTION)}")
     return "\n".join(lines) + "\n"

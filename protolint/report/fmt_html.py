@@ -253,7 +253,8 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
 
     metas = {meta.id: meta for meta in rules}
     policy = _policy_text(result)
-    plans = tuple(_plan_view(index, plan, metas, policy) for index, plan in enumerate(result.plans))
+    plans = tuple(_plan_view(index, plan, metas, policy, given=result.as_of is not None)
+                  for index, plan in enumerate(result.plans))
     families = sorted({finding.family for plan in plans for finding in plan.findings})
     counts = result.counts()
     script_hash = base64.b64encode(hashlib.sha256(FILTER_SCRIPT.encode("utf-8")).digest()).decode("ascii")
@@ -273,15 +274,12 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
 
 
 def _policy_text(result: CheckResult) -> str:
-    # CheckResult will record the policy it was checked with; until it does, say so rather
-    # than guess (a reviewer must not read "defaults" when a policy file was in force).
-    if not hasattr(result, "policy"):
-        return "not recorded in this result"
-    policy = getattr(result, "policy")
-    return str(policy) if policy else "built-in defaults (no policy file)"
+    # The same phrase as every other report and the documents: file and SHA-256 (or the
+    # default), the rules switched off, the severities and thresholds changed.
+    return result.policy.describe()
 
 
-def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], policy: str) -> PlanView:
+def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], policy: str, *, given: bool = False) -> PlanView:
     lines, data, source_note = _plan_source(plan)
     raw_waivers, raw_protocol = data.get("waivers"), data.get("protocol")
     waivers: list[Any] = raw_waivers if isinstance(raw_waivers, list) else []
@@ -303,7 +301,7 @@ def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], poli
         sha256=plan.sha256,
         format_version=str(data.get("format_version", "not stated")),
         protocol=protocol_text or "not stated",
-        as_of=_as_of_text(plan),
+        as_of=_as_of_text(plan, given),
         policy=policy,
         counts=plan_counts(plan),
         counts_text=counts_phrase(plan_counts(plan)),
@@ -316,9 +314,9 @@ def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], poli
     )
 
 
-def _as_of_text(plan: PlanResult) -> str:
+def _as_of_text(plan: PlanResult, given: bool = False) -> str:
     if plan.as_of:
-        return plan.as_of
+        return plan.as_of + (" (given with --as-of)" if given else " (the plan's own date)")
     if plan.rules_run and all(rule_id.startswith("schema/") for rule_id in plan.rules_run):
         # The engine stops before the rules when the plan does not load; no date was compared.
         return "not used (the plan did not pass the schema and reference checks, so no rule compared dates)"

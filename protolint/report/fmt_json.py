@@ -2,7 +2,10 @@
 
 The contract keys come first in a fixed order and are never renamed or dropped; the extra
 keys (``end_line``, ``end_column``, ``waiver_reason``, ``fingerprint``, ``as_of``,
-``rules_not_run``, ``not_run_reason``, ``caution``) follow them. Undefined numbers are ``null``.
+``rules_not_run``, ``not_run_reason``, the top-level ``policy`` and ``as_of``, ``caution``)
+follow them. ``policy`` is ``{"file", "sha256", "disabled", "changed"}`` (``file`` "default"
+for the built-in policy); the top-level ``as_of`` is the date every plan was checked as of,
+``as_of_basis`` says whether it was given (``--as-of``) or is the plans' own ``plan_date``. Undefined numbers are ``null``.
 """
 
 from __future__ import annotations
@@ -53,6 +56,9 @@ def as_document(result: CheckResult) -> dict[str, Any]:
         "tool": {"name": "protolint", "version": result.tool_version},
         "plans": [_plan(plan) for plan in result.plans],
         "summary": result.counts(),
+        "policy": result.policy.to_json(),
+        "as_of": result.as_of_in_force,
+        "as_of_basis": "given" if result.as_of else "plan_date",
         "caution": CAUTION,
     }
 

@@ -3,7 +3,8 @@
 Mapping (JUnit has no official specification; this targets the common ``junit-10.xsd``):
 
 * one ``<testsuite>`` per plan file (``name`` = the file path), with the plan's sha256, the
-  as-of date, the tool version and the caution as ``<properties>``;
+  as-of date, the policy (file or "default", its sha256, the rules it switched off, the
+  severities and thresholds it changed), the tool version and the caution as ``<properties>``;
 * one ``<testcase>`` per rule per plan (``classname`` = plan file, ``name`` = rule id);
 * one ``<failure>`` per unwaived finding of severity warning or error (``type`` = the
   severity, ``message`` = the finding's one-line text form, body =
@@ -36,7 +37,7 @@ from protolint.report._common import (
 from protolint.report.fmt_text import finding_line
 
 if TYPE_CHECKING:
-    from protolint.findings import CheckResult, Finding, PlanResult
+    from protolint.findings import CheckResult, Finding, PlanResult, PolicyRecord
     from protolint.rules.registry import RuleMeta
 
 
@@ -83,7 +84,7 @@ def _testcase(plan: PlanResult, rule_id: str, findings: list[Finding]) -> tuple[
     return case, outcome
 
 
-def _testsuite(plan: PlanResult, rules: Sequence[RuleMeta], version: str) -> tuple[ET.Element, dict[str, int]]:
+def _testsuite(plan: PlanResult, rules: Sequence[RuleMeta], version: str, policy: PolicyRecord) -> tuple[ET.Element, dict[str, int]]:
     by_rule: dict[str, list[Finding]] = {}
     for finding in plan.findings:
         by_rule.setdefault(finding.rule, []).append(finding)
@@ -93,6 +94,10 @@ def _testsuite(plan: PlanResult, rules: Sequence[RuleMeta], version: str) -> tup
     for name, value in (
         ("sha256", plan.sha256),
         ("as_of", plan.as_of),
+        ("policy_file", policy.name),
+        ("policy_sha256", policy.sha256),
+        ("policy_disabled", ", ".join(policy.disabled) or "none"),
+        ("policy_changed", "; ".join(policy.changes()[1 if policy.disabled else 0:]) or "none"),
         ("protolint_version", version),
         ("caution", CAUTION),
     ):
@@ -123,7 +128,7 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
     root = ET.Element("testsuites", {"name": "protolint"})
     totals = {"tests": 0, "failures": 0, "errors": 0}
     for plan in result.plans:
-        suite, counts = _testsuite(plan, rules, result.tool_version)
+        suite, counts = _testsuite(plan, rules, result.tool_version, result.policy)
         root.append(suite)
         for key in totals:
             totals[key] += counts[key]

@@ -12,6 +12,7 @@ from typing import TYPE_CHECKING, Sequence
 
 from protolint import CAUTION
 from protolint.report._common import (
+    check_basis,
     counts_phrase,
     facts_inline,
     plan_counts,
@@ -108,6 +109,7 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
         "# protolint report",
         f"{counts_phrase(counts)} in {plural(len(result.plans), 'plan')} "
         f"(protolint {escape(result.tool_version)}).",
+        escape(check_basis(result)),
         _summary_table(result),
     ]
     for plan in result.plans:

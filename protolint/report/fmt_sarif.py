@@ -143,10 +143,13 @@ def _result(
     return result
 
 
-def _invocation(notifications: list[dict[str, Any]]) -> dict[str, Any]:
+def _invocation(notifications: list[dict[str, Any]], result: CheckResult) -> dict[str, Any]:
     """Rules that could not run on a plan are tool execution notifications: the run itself
-    succeeded (it reported what it could check), but its results are incomplete."""
-    invocation: dict[str, Any] = {"executionSuccessful": True}
+    succeeded (it reported what it could check), but its results are incomplete. The
+    invocation's properties record the policy and the as-of date the run was made with."""
+    properties: dict[str, Any] = {"policy": result.policy.to_json(), "asOf": result.as_of_in_force,
+                                  "asOfBasis": "given" if result.as_of else "plan_date"}
+    invocation: dict[str, Any] = {"executionSuccessful": True, "properties": properties}
     if notifications:
         invocation["toolExecutionNotifications"] = notifications
     return invocation
@@ -201,11 +204,11 @@ def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any
             }
         },
         "automationDetails": {"id": AUTOMATION_ID},
-        "invocations": [_invocation(notifications)],
+        "invocations": [_invocation(notifications, result)],
         "artifacts": artifacts,
         "columnKind": "unicodeCodePoints",
         "results": results,
-        "properties": {"caution": CAUTION},
+        "properties": {"caution": CAUTION, "policy": result.policy.to_json()},
     }
     as_of = sorted({plan.as_of for plan in result.plans if plan.as_of})
     if as_of:

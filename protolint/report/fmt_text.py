@@ -13,6 +13,7 @@ from typing import TYPE_CHECKING, Sequence
 
 from protolint import CAUTION
 from protolint.report._common import (
+    check_basis,
     counts_phrase,
     one_line,
     plan_counts,
@@ -87,5 +88,6 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
     else:
         summary = _paint(summary, "ok", color)
     blocks.append(summary)
+    blocks.append(textwrap.fill(one_line(check_basis(result)), width=WRAP_WIDTH))
     blocks.append(textwrap.fill(f"Caution: {CAUTION}", width=WRAP_WIDTH))
     return "\n\n".join(blocks) + "\n"

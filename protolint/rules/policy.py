@@ -7,12 +7,13 @@ problem in it is an input error (exit 2) located at the offending line.
 
 from __future__ import annotations
 
+import hashlib
 from dataclasses import dataclass, field
 from pathlib import Path as FilePath
-from typing import Mapping
+from typing import Any, Mapping
 
 from protolint.errors import LocatedError
-from protolint.findings import Severity
+from protolint.findings import PolicyRecord, Severity
 from protolint.plan.schema import schema_findings
 from protolint.plan.source import load_source
 from protolint.rules.registry import RuleMeta
@@ -25,6 +26,10 @@ class Policy:
     disabled: frozenset[str] = frozenset()
     severities: Mapping[str, Severity] = field(default_factory=dict)
     thresholds: Mapping[str, Mapping[str, float]] = field(default_factory=dict)
+    file: str | None = None
+    """The policy file as given (None: the built-in default or a policy made in code)."""
+    sha256: str | None = None
+    """SHA-256 of the policy file's bytes."""
 
     def enabled(self, rule_id: str) -> bool:
         return rule_id not in self.disabled
@@ -36,6 +41,23 @@ class Policy:
         values = {threshold.name: threshold.default for threshold in meta.thresholds}
         values.update(self.thresholds.get(meta.id, {}))
         return values
+
+
+    def record(self, rules: Mapping[str, RuleMeta]) -> PolicyRecord:
+        """What this policy changed, against the rules' own defaults in ``rules`` (by id)."""
+        changed: dict[str, dict[str, Any]] = {}
+        for rule_id in sorted(set(self.severities) | set(self.thresholds)):
+            meta = rules.get(rule_id)
+            settings: dict[str, Any] = {}
+            if rule_id in self.severities:
+                settings["severity"] = {"from": meta.severity.label if meta else None,
+                                        "to": self.severities[rule_id].label}
+            if rule_id in self.thresholds:
+                defaults = {t.name: t.default for t in meta.thresholds} if meta else {}
+                settings["thresholds"] = {name: {"from": defaults.get(name), "to": value}
+                                          for name, value in sorted(self.thresholds[rule_id].items())}
+            changed[rule_id] = settings
+        return PolicyRecord(self.file, self.sha256, tuple(sorted(self.disabled)), changed)
 
 
 DEFAULT_POLICY = Policy()
@@ -77,4 +99,4 @@ def read_policy(file: str, rules: Mapping[str, RuleMeta]) -> Policy:
                 raise LocatedError(file, spot.line, spot.column,
                                    f"threshold {name} of {rule_id} must lie between {threshold.minimum} and {threshold.maximum}, not {value}")
             thresholds.setdefault(rule_id, {})[name] = value
-    return Policy(frozenset(disabled), severities, thresholds)
+    return Policy(frozenset(disabled), severities, thresholds, file=file, sha256=hashlib.sha256(raw).hexdigest())

@@ -45,7 +45,9 @@ def test_run_level_fields(result, rules):
     assert run["tool"]["driver"]["version"] == "9.9.9-test"
     assert run["columnKind"] == "unicodeCodePoints"
     assert run["automationDetails"] == {"id": "protolint/"}
-    assert run["invocations"] == [{"executionSuccessful": True}]
+    (invocation,) = run["invocations"]
+    assert invocation["executionSuccessful"] is True
+    assert invocation["properties"]["policy"] == {"file": "default", "sha256": None, "disabled": [], "changed": {}}
     assert run["properties"]["caution"] == CAUTION
 
 

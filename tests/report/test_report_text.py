@@ -59,4 +59,4 @@ def test_summary_and_caution(result, rules):
     text = render_report("text", result, rules)
     assert "2 errors, 1 warning, 1 note, 2 waived in 3 plans" in text.splitlines()
     tail = " ".join(text.split("2 waived in 3 plans", 1)[1].split())
-    assert tail == f"Caution: {CAUTION}"
+    assert tail == f"Checked as of 2026-03-01 under the default policy (no policy file). Caution: {CAUTION}"
