@@ -1,14 +1,39 @@
-"""Helpers shared by the commands: JSON without NaN, atomic output (and the old name of the command class)."""
+"""Helpers shared by the commands: the check options, JSON without NaN, atomic output (and the
+old name of the command class)."""
 
 from __future__ import annotations
 
 import json
 import math
-from typing import Any
+from datetime import date
+from typing import Any, Callable, TypeVar
 
 import click
 
 from protolint.commands.base import ProtolintCommand
+
+
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+def parse_as_of(ctx: click.Context, param: click.Parameter, value: str | None) -> date | None:
+    if value is None:
+        return None
+    try:
+        return date.fromisoformat(value)
+    except ValueError:
+        raise click.BadParameter(f"{value!r} is not a date written YYYY-MM-DD") from None
+
+
+def check_options(as_of_help: str = "Date the date rules compare with (default: each plan's plan_date).") -> Callable[[F], F]:
+    """``--policy FILE`` and ``--as-of YYYY-MM-DD``, the same for every command that checks a plan
+    (check, render, calendar, diff), so a document or a comparison is made under exactly the
+    policy and date a CI check used."""
+    def decorate(command: F) -> F:
+        command = click.option("--as-of", callback=parse_as_of, metavar="YYYY-MM-DD", help=as_of_help)(command)
+        return click.option("--policy", type=click.Path(dir_okay=False),
+                            help="Policy file that switches rules off or changes severities and thresholds.")(command)
+    return decorate
 
 
 def _finite(value: Any) -> Any:

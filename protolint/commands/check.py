@@ -8,18 +8,10 @@ from datetime import date
 
 import click
 
+from protolint.commands._shared import check_options
 from protolint.commands.base import ProtolintCommand
 from protolint.findings import Severity
 from protolint.report import FORMATS
-
-
-def _parse_as_of(ctx: click.Context, param: click.Parameter, value: str | None) -> date | None:
-    if value is None:
-        return None
-    try:
-        return date.fromisoformat(value)
-    except ValueError:
-        raise click.BadParameter(f"{value!r} is not a date written YYYY-MM-DD") from None
 
 
 @click.command("check", cls=ProtolintCommand)
@@ -27,11 +19,9 @@ def _parse_as_of(ctx: click.Context, param: click.Parameter, value: str | None) 
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True,
               help="Report format.")
 @click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write the report to this file instead of standard output.")
-@click.option("--policy", type=click.Path(dir_okay=False), help="Policy file that switches rules off or changes severities and thresholds.")
 @click.option("--fail-on", type=click.Choice(["error", "warning", "note", "never"]), default="error", show_default=True,
               help="Lowest severity that makes the exit code 1.")
-@click.option("--as-of", callback=_parse_as_of, metavar="YYYY-MM-DD",
-              help="Date the date rules compare with (default: each plan's plan_date).")
+@check_options()
 @click.option("--color/--no-color", default=None, help="Colour the text report (default: on a terminal, unless NO_COLOR is set).")
 def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | None, fail_on: str,
             as_of: date | None, color: bool | None) -> None:

@@ -3,15 +3,10 @@
 from __future__ import annotations
 
 import sys
-from typing import TYPE_CHECKING
-
+from datetime import date
 import click
 
-from protolint.commands._shared import OneLineCommand
-
-if TYPE_CHECKING:
-    from protolint.findings import PlanResult
-    from protolint.plan.source import LoadedSource
+from protolint.commands._shared import OneLineCommand, check_options
 
 FORMATS = ("text", "json", "markdown", "html")
 
@@ -23,12 +18,15 @@ FORMATS = ("text", "json", "markdown", "html")
 @click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write the report to this file instead of standard output.")
 @click.option("--fail-on-new", type=click.Choice(["error", "warning", "note"]), default=None,
               help="Exit 1 when NEW introduces a finding at or above this severity (waived findings do not count).")
-def command(old: str, new: str, fmt: str, output: str | None, fail_on_new: str | None) -> None:
+@check_options("Date the rules of both versions compare with (default: each version's own plan_date).")
+def command(old: str, new: str, fmt: str, output: str | None, fail_on_new: str | None,
+            policy: str | None, as_of: date | None) -> None:
     """Compare two versions of a measurement plan.
 
     Entries are matched by their id, so reordering SOPs, visits or rater pools is no change.
     Each change is given with its JSON Pointer in NEW, its line in both files and a sentence;
-    the findings of both versions are split into introduced, resolved and unchanged. The JSON
+    the findings of both versions, checked under --policy and --as-of as `protolint check`
+    would, are split into introduced, resolved and unchanged. The JSON
     format adds an RFC 6902 patch that turns OLD's data into NEW's.
 
     Exit code 0, or 1 with --fail-on-new when NEW introduces a finding at or above that
@@ -46,17 +44,14 @@ def command(old: str, new: str, fmt: str, output: str | None, fail_on_new: str |
     from protolint.findings import Severity
     from protolint.plan import read_source
 
+    from protolint.pipeline import check_source, resolve_policy
+
+    chosen = resolve_policy(policy)  # read once; a bad policy file is exit 2 before any output
     old_source, new_source = read_source(old), read_source(new)
-    comparison = compare_plans(old_source, new_source, _check(old_source), _check(new_source))
+    comparison = compare_plans(old_source, new_source, check_source(old_source, chosen, as_of),
+                               check_source(new_source, chosen, as_of))
     text = render_comparison(fmt, comparison)
     emit(text, output, f"{fmt} comparison")
     if fail_on_new and comparison.introduced_at_or_above(Severity.parse(fail_on_new)):
         sys.exit(1)
 
-
-def _check(source: LoadedSource) -> PlanResult:
-    """The findings of one version, with the default policy and the plan's own date, from the
-    one check pipeline."""
-    from protolint.pipeline import check_source
-
-    return check_source(source)

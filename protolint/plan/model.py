@@ -406,6 +406,25 @@ class Waiver:
 
 
 @dataclass(frozen=True)
+class DocumentIdentity:
+    """A controlled document's number and version in the sponsor's document system."""
+
+    path: Path
+    number: str | None = None
+    version: str | None = None
+
+
+@dataclass(frozen=True)
+class DocumentIdentities:
+    """The plan's ``documents`` section: number and version per document kind."""
+
+    path: Path
+    manual: DocumentIdentity | None = None
+    checklist: DocumentIdentity | None = None
+    binder: DocumentIdentity | None = None
+
+
+@dataclass(frozen=True)
 class Plan:
     path: Path
     format_version: int
@@ -421,6 +440,7 @@ class Plan:
     sops: tuple[Sop, ...] = ()
     deviations: tuple[Deviation, ...] = ()
     waivers: tuple[Waiver, ...] = ()
+    documents: DocumentIdentities | None = None
 
     def instrument(self, instrument_id: str) -> Instrument:
         return next(item for item in self.instruments if item.id == instrument_id)

@@ -14,9 +14,12 @@ rounds, rating spans, the reliability the trial can expect) come from ``protolin
 from __future__ import annotations
 
 import dataclasses
-from typing import Any, Callable
+from typing import TYPE_CHECKING, Any, Callable
 
 from protolint.plan import LoadedPlan
+
+if TYPE_CHECKING:
+    from protolint.render.document import DocumentCheck
 
 KINDS = ("manual", "checklist", "binder")
 FORMATS = ("pdf", "html", "markdown")
@@ -26,22 +29,30 @@ Progress = Callable[[str], None]
 
 
 def build_context(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
-                  site: str | None = None) -> Any:
-    """The typed context of document ``kind`` for ``loaded`` (``site``: one site's checklist)."""
+                  site: str | None = None, check: DocumentCheck | None = None) -> Any:
+    """The typed context of document ``kind`` for ``loaded`` (``site``: one site's checklist).
+
+    ``check`` is the plan's check under the policy and as-of date in force
+    (:func:`protolint.render.document.document_check`); None checks with the default policy as
+    of the plan's date, as ``protolint check`` does without options.
+    """
     if site is not None and kind != "checklist":
         raise ValueError("a single site can be chosen for the checklist only")
+    from protolint.render.document import document_check
+
+    check = check or document_check(loaded)
     if kind == "manual":
         from protolint.render.manual import manual_context
 
-        return manual_context(loaded, paper)
+        return manual_context(loaded, paper, check)
     if kind == "checklist":
         from protolint.render.checklist import checklist_context
 
-        return checklist_context(loaded, paper, site)
+        return checklist_context(loaded, paper, site, check)
     if kind == "binder":
         from protolint.render.binder import binder_context
 
-        return binder_context(loaded, paper, progress)
+        return binder_context(loaded, paper, progress, check)
     raise ValueError(f"document kind must be one of {', '.join(KINDS)}, got {kind!r}")
 
 
@@ -51,34 +62,35 @@ def _fields(ctx: Any) -> dict[str, Any]:
 
 
 def render_html(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
-                site: str | None = None) -> str:
+                site: str | None = None, check: DocumentCheck | None = None) -> str:
     """One self-contained HTML file (inline CSS and SVG, no external resource)."""
     from protolint.render.environment import make_env
 
-    ctx = build_context(kind, loaded, paper, progress, site)
+    ctx = build_context(kind, loaded, paper, progress, site, check)
     return make_env().get_template(f"{kind}.html.j2").render(**_fields(ctx))
 
 
 def render_markdown(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
-                    site: str | None = None) -> str:
+                    site: str | None = None, check: DocumentCheck | None = None) -> str:
     """Markdown for wikis and electronic document systems (CommonMark with pipe tables)."""
     from protolint.render.environment import make_env
 
-    ctx = build_context(kind, loaded, paper, progress, site)
+    ctx = build_context(kind, loaded, paper, progress, site, check)
     return make_env().get_template(f"{kind}.md.j2").render(**_fields(ctx))
 
 
 def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
-               site: str | None = None) -> bytes:
+               site: str | None = None, check: DocumentCheck | None = None) -> bytes:
     """PDF/A-3b with the plan file embedded; see :mod:`protolint.render.pdf`."""
     from pathlib import PurePath
 
-    from protolint.render.document import document_date
+    from protolint.render.document import document_check, document_date
     from protolint.render.pdf import PdfSource, html_to_pdf
 
-    html = render_html(kind, loaded, paper, progress, site)
+    check = check or document_check(loaded)
+    html = render_html(kind, loaded, paper, progress, site, check)
     assert loaded.plan is not None  # render_html has refused an invalid plan already
-    day, _ = document_date(loaded.plan)
+    day, _ = document_date(loaded.plan, as_of=check.given_as_of)
     name = PurePath(loaded.source.file).name
     source = PdfSource(document_date=day, attachment_name=name, attachment_text=loaded.source.text,
                        attachment_description=f"The measurement plan this document was generated from (SHA-256 {loaded.source.sha256})")
@@ -88,15 +100,16 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
 
 
 def render(kind: str, fmt: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
-           site: str | None = None) -> str | bytes:
+           site: str | None = None, check: DocumentCheck | None = None) -> str | bytes:
     """Document ``kind`` in format ``fmt`` (see ``KINDS`` and ``FORMATS``); ``site`` limits the
-    checklist to one site's copy."""
+    checklist to one site's copy; ``check`` is the plan's check under the policy and as-of date
+    in force (see :func:`build_context`)."""
     if paper not in PAPERS:
         raise ValueError(f"paper must be one of {', '.join(PAPERS)}, got {paper!r}")
     if fmt == "pdf":
-        return render_pdf(kind, loaded, paper, progress, site)
+        return render_pdf(kind, loaded, paper, progress, site, check)
     if fmt == "html":
-        return render_html(kind, loaded, paper, progress, site)
+        return render_html(kind, loaded, paper, progress, site, check)
     if fmt == "markdown":
-        return render_markdown(kind, loaded, paper, progress, site)
+        return render_markdown(kind, loaded, paper, progress, site, check)
     raise ValueError(f"format must be one of {', '.join(FORMATS)}, got {fmt!r}")

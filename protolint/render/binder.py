@@ -10,9 +10,9 @@ from typing import Any, Callable
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Endpoint, Plan, RaterPool, Sop
 from protolint.plan.monitoring import pool_spans
-from protolint.render.document import DocumentControl, Fact, document_control, valid_plan
+from protolint.render.document import DocumentCheck, DocumentControl, Fact, document_check, document_control, valid_plan
 from protolint.render.environment import number, words
-from protolint.render.phrases import join_or
+from protolint.render.phrases import join_or, sop_status_text
 
 
 @dataclass(frozen=True)
@@ -68,6 +68,8 @@ class FindingRow:
 @dataclass(frozen=True)
 class CheckAppendix:
     as_of: date
+    policy: str
+    """The policy in force, in words (file and SHA-256, or the default; what it changed)."""
     counts: tuple[Fact, ...]
     findings: tuple[FindingRow, ...]
     waived: tuple[FindingRow, ...]
@@ -103,11 +105,11 @@ def signoff_sheet(plan: Plan, pool: RaterPool) -> SignOffSheet:
     return SignOffSheet(pool.label, rows, blank)
 
 
-def _sop_section(plan: Plan, sop: Sop) -> SopSection:
+def _sop_section(plan: Plan, sop: Sop, day: date) -> SopSection:
     covers = sop.covers
     facts = (
         Fact("Version", sop.version),
-        Fact("Status", words(sop.status) or "not stated in the plan"),
+        Fact("Status", sop_status_text(sop, day)),
         Fact("Effective", sop.effective.isoformat()),
         Fact("Next review", sop.review_due.isoformat() if sop.review_due else "not stated in the plan"),
         Fact("Owner", sop.owner or "not stated in the plan"),
@@ -220,23 +222,26 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
     return SampleSizeAppendix(inputs, results, svg, convention, note)
 
 
-def check_appendix(loaded: LoadedPlan, as_of: date) -> CheckAppendix:
-    from protolint.pipeline import check_source
-
-    result = check_source(loaded.source, as_of=as_of)
+def check_appendix(check: DocumentCheck) -> CheckAppendix:
+    """The plan's findings as the document's check found them (the policy and date in force)."""
+    result = check.result
     rows = [FindingRow(f.severity.label, f.rule, f"line {f.location.line}, column {f.location.column}",
                        f.message, f.waiver_reason) for f in result.findings]
     findings = tuple(r for r, f in zip(rows, result.findings) if not f.waived)
     waived = tuple(r for r, f in zip(rows, result.findings) if f.waived)
     counts = tuple(Fact(level, str(sum(1 for r in findings if r.severity == level))) for level in ("error", "warning", "note"))
-    return CheckAppendix(as_of, counts + (Fact("waived", str(len(waived))),), findings, waived)
+    return CheckAppendix(check.as_of, check.policy.describe(), counts + (Fact("waived", str(len(waived))),),
+                         findings, waived)
 
 
 def binder_context(loaded: LoadedPlan, paper: str = "a4",
-                   progress: Callable[[str], None] | None = None) -> BinderContext:
+                   progress: Callable[[str], None] | None = None, check: DocumentCheck | None = None) -> BinderContext:
     plan = valid_plan(loaded)
-    control = document_control(loaded, "binder", paper)
-    sops = tuple(_sop_section(plan, sop) for sop in plan.sops)
+    if progress:
+        progress("running the checks")
+    check = check or document_check(loaded)
+    control = document_control(loaded, "binder", paper, check)
+    sops = tuple(_sop_section(plan, sop, control.document_date) for sop in plan.sops)
     revisions = tuple(sorted(
         (RevisionRow(f"{sop.id} {sop.title}", rev.version, rev.date, rev.summary or "")
          for sop in plan.sops for rev in sop.revisions),
@@ -248,7 +253,4 @@ def binder_context(loaded: LoadedPlan, paper: str = "a4",
     if progress:
         progress("computing the sample-size appendix")
     sample = sample_size_appendix(plan)
-    if progress:
-        progress("running the checks")
-    check = check_appendix(loaded, plan.plan_date)
-    return BinderContext(control, sops, revisions, amendments, sample, check)
+    return BinderContext(control, sops, revisions, amendments, sample, check_appendix(check))

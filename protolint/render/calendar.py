@@ -3,14 +3,17 @@
 Events are all-day (``VALUE=DATE``): a deadline is a day, not a time in some time zone.
 Every UID is a hash of the study id, the event kind, the ids involved and the date, so
 exporting the same plan again gives the same UIDs and calendar programs update the events
-instead of adding copies; ``DTSTAMP`` is the document date (SOURCE_DATE_EPOCH or the plan's
-date), never the clock, so the same plan gives the same file.
+instead of adding copies; ``DTSTAMP`` is the document date (``--as-of``, SOURCE_DATE_EPOCH or
+the plan's date), never the clock, so the same plan gives the same file. The calendar's
+description records the plan, the policy and the date it was checked under, and whether the
+plan still has open errors (then every event says it comes from a draft plan).
 """
 
 from __future__ import annotations
 
 import hashlib
 from dataclasses import dataclass
+from pathlib import PurePath
 from datetime import date, datetime, time, timedelta, timezone
 
 from protolint import CAUTION, __version__
@@ -18,7 +21,7 @@ from protolint.plan import LoadedPlan
 from protolint.plan.model import Plan
 from protolint.plan.timeline import certification_expiry, study_window
 from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, recertification_dates, training_deadline
-from protolint.render.document import document_date
+from protolint.render.document import DocumentCheck, document_check, document_date, library_versions
 
 UID_DOMAIN = "protolint.invalid"
 
@@ -101,21 +104,30 @@ def dated_duties(plan: Plan) -> tuple[DatedDuty, ...]:
     return tuple(sorted(duties, key=lambda d: (d.day, d.kind, d.ids)))
 
 
-def render_calendar(loaded: LoadedPlan) -> bytes:
-    """The iCalendar file for ``loaded``."""
+def render_calendar(loaded: LoadedPlan, check: DocumentCheck | None = None) -> bytes:
+    """The iCalendar file for ``loaded``; ``check`` is the plan's check under the policy and
+    as-of date in force (None: the default policy as of the plan's date)."""
     from icalendar import Calendar, Event
 
     if loaded.plan is None:
         raise ValueError("the plan has schema or reference problems; no calendar is made from it")
     plan = loaded.plan
-    day, _ = document_date(plan)
+    check = check or document_check(loaded)
+    day, _ = document_date(plan, as_of=check.given_as_of)
     stamp = datetime.combine(day, time(0, 0), tzinfo=timezone.utc)
     calendar = Calendar()
     calendar.add("prodid", f"-//protolint//protolint {__version__}//EN")
     calendar.add("version", "2.0")
     calendar.add("calscale", "GREGORIAN")
     calendar.add("x-wr-calname", f"{plan.study.id} rater duties")
-    footer = f"\n\nFrom plan SHA-256 {loaded.source.sha256}.\n{CAUTION}"
+    errors = len(check.open_errors)
+    status = (f"Draft plan: {errors} open error{'s' if errors != 1 else ''} in the plan check; not for use."
+              if errors else "No open errors in the plan check.")
+    versions = ", ".join(f"{lib.label} {lib.value}" for lib in library_versions(("icalendar",)))
+    calendar.add("x-wr-caldesc", f"From plan {PurePath(loaded.source.file).name} (SHA-256 {loaded.source.sha256}), "
+                                 f"checked as of {check.as_of.isoformat()} under {check.policy.describe()}. {status} "
+                                 f"protolint {__version__}, {versions}. {CAUTION}")
+    footer = f"\n\nFrom plan SHA-256 {loaded.source.sha256}.{' ' + status if errors else ''}\n{CAUTION}"
     for duty in dated_duties(plan):
         event = Event()
         event.add("uid", stable_uid(plan.study.id, duty.kind, duty.ids, duty.day))

@@ -12,7 +12,7 @@ from datetime import date
 from protolint.plan import LoadedPlan
 from protolint.plan.monitoring import CENTRAL, monitoring_rounds
 from protolint.plan.timeline import study_window
-from protolint.render.document import DocumentControl, document_control, valid_plan
+from protolint.render.document import DocumentCheck, DocumentControl, document_control, valid_plan
 from protolint.render.document import Fact
 from protolint.render.phrases import monitoring_facts
 
@@ -67,7 +67,8 @@ class ChecklistContext:
     """Set when this copy covers one site (``render checklist --site``)."""
 
 
-def checklist_context(loaded: LoadedPlan, paper: str = "a4", site: str | None = None) -> ChecklistContext:
+def checklist_context(loaded: LoadedPlan, paper: str = "a4", site: str | None = None,
+                      check: DocumentCheck | None = None) -> ChecklistContext:
     """The monitoring checklist, for every site or, with ``site``, for one site's copy."""
     plan = valid_plan(loaded)
     by_site: dict[str, list[PoolChecklist]] = {}
@@ -96,5 +97,5 @@ def checklist_context(loaded: LoadedPlan, paper: str = "a4", site: str | None = 
             raise ValueError(f"site {site!r} has no monitoring rounds in this plan; choose one of: {', '.join(known) or 'none'}")
         sites = [s for s in sites if s.id == site]
     count = sum(len(p.rounds) for s in sites for p in s.pools)
-    return ChecklistContext(document_control(loaded, "checklist", paper), study_window(plan).last, tuple(sites),
+    return ChecklistContext(document_control(loaded, "checklist", paper, check), study_window(plan).last, tuple(sites),
                             tuple(unmonitored), count, site)

@@ -1,7 +1,10 @@
-"""What every controlled document shares: its document-control block, its date, its plan.
+"""What every controlled document shares: its document-control block, its date, its status, its plan.
 
-The document's date is SOURCE_DATE_EPOCH when set (reproducible builds), else the plan's date,
-never the wall clock, so the same plan always gives the same document.
+The document's date is the ``--as-of`` date when one is given, else SOURCE_DATE_EPOCH when set
+(reproducible builds), else the plan's date, never the wall clock, so the same plan always gives
+the same document. The plan is checked exactly as ``protolint check`` checks it with the same
+``--policy`` and ``--as-of`` (:class:`DocumentCheck`); a plan with open errors after the policy
+and the waivers makes every document a draft (:class:`DocumentStatus`).
 """
 
 from __future__ import annotations
@@ -9,11 +12,17 @@ from __future__ import annotations
 import os
 from dataclasses import dataclass
 from datetime import date, datetime, timezone
+from importlib import metadata
 from pathlib import PurePath
+from typing import TYPE_CHECKING
 
 from protolint import CAUTION, __version__
+from protolint.findings import Finding, PlanResult, PolicyRecord, Severity
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Plan
+
+if TYPE_CHECKING:
+    from protolint.pipeline import PolicyArg
 
 SIGNATURE_NOTE = (
     "Signature and initials boxes in this document are placeholders for handwritten "
@@ -23,6 +32,13 @@ SIGNATURE_NOTE = (
 
 DOCUMENT_TITLES = {"manual": "Rater manual", "checklist": "Rater monitoring checklist", "binder": "SOP binder"}
 
+RENDERING_LIBRARIES = ("weasyprint", "pydyf", "fonttools", "jinja2", "markdown-it-py", "matplotlib")
+"""The libraries whose versions decide a document's bytes (layout, PDF writing, font subsets,
+templates, Markdown, charts); the document-control block names each installed version."""
+
+REPRODUCIBILITY_CLAIM = ("The same plan with the same protolint and library versions gives the same document; "
+                         "a change to the plan needs a new document.")
+
 
 @dataclass(frozen=True)
 class Fact:
@@ -30,6 +46,112 @@ class Fact:
 
     label: str
     value: str
+
+
+@dataclass(frozen=True)
+class OpenError:
+    """An error finding that keeps a document a draft, located in the plan file."""
+
+    rule: str
+    line: int
+    column: int
+    message: str
+
+    @property
+    def where(self) -> str:
+        return f"line {self.line}, column {self.column}"
+
+
+@dataclass(frozen=True)
+class DocumentCheck:
+    """The plan's check behind a document: the findings under the policy and as-of date in force."""
+
+    result: PlanResult
+    policy: PolicyRecord
+    as_of: date
+    """The date the rules compared with: ``--as-of``, else the plan's date (as ``check``)."""
+    as_of_given: bool
+
+    @property
+    def given_as_of(self) -> date | None:
+        """The ``--as-of`` date, which also dates the document; None when none was given."""
+        return self.as_of if self.as_of_given else None
+
+    @property
+    def open_errors(self) -> tuple[Finding, ...]:
+        """Error findings neither switched off by the policy nor waived: what makes a draft."""
+        return tuple(f for f in self.result.findings if f.severity >= Severity.ERROR and not f.waived)
+
+
+def document_check(loaded: LoadedPlan, policy: PolicyArg = None, as_of: date | None = None) -> DocumentCheck:
+    """Check ``loaded`` through the one check pipeline, as ``check --policy --as-of`` would."""
+    from protolint.pipeline import check_plan, policy_record, resolve_policy
+
+    plan = valid_plan(loaded)
+    chosen = resolve_policy(policy)
+    return DocumentCheck(check_plan(loaded, chosen, as_of), policy_record(chosen), as_of or plan.plan_date,
+                         as_of is not None)
+
+
+@dataclass(frozen=True)
+class DocumentStatus:
+    """Whether a document may be used, and how the sponsor's document system knows it."""
+
+    open_errors: tuple[OpenError, ...]
+    checked_as_of: date
+    number: str | None = None
+    version: str | None = None
+
+    @property
+    def draft(self) -> bool:
+        return bool(self.open_errors)
+
+    @property
+    def label(self) -> str:
+        return "Draft" if self.draft else "Final"
+
+    @property
+    def mark(self) -> str:
+        """The words every page of a draft carries (empty for a final document)."""
+        if not self.draft:
+            return ""
+        count = len(self.open_errors)
+        return f"Draft — {count} open error{'s' if count != 1 else ''} in the plan check — not for use"
+
+    @property
+    def summary(self) -> str:
+        """The status in one sentence: the cover's status line and the running footer."""
+        if self.draft:
+            return self.mark
+        return f"Final — no open errors in the plan check as of {self.checked_as_of.isoformat()}"
+
+    @property
+    def identity(self) -> str:
+        """"QA-RM-0042 version 2.0", or "" when the plan gives neither."""
+        parts = [self.number or "", f"version {self.version}" if self.version else ""]
+        return " ".join(part for part in parts if part)
+
+    @property
+    def running_line(self) -> str:
+        return " · ".join(part for part in (self.identity, self.summary) if part)
+
+
+def document_status(plan: Plan, kind: str, check: DocumentCheck) -> DocumentStatus:
+    identity = getattr(plan.documents, kind, None) if plan.documents else None
+    errors = tuple(OpenError(f.rule, f.location.line, f.location.column, f.message) for f in check.open_errors)
+    return DocumentStatus(errors, check.as_of, identity.number if identity else None,
+                          identity.version if identity else None)
+
+
+def library_versions(names: tuple[str, ...] = RENDERING_LIBRARIES) -> tuple[Fact, ...]:
+    """The installed version of each library in ``names`` (importlib.metadata), in that order."""
+    rows = []
+    for name in names:
+        try:
+            rows.append(Fact(name, metadata.version(name)))
+        except metadata.PackageNotFoundError:
+            rows.append(Fact(name, "not installed"))
+    return tuple(rows)
 
 
 @dataclass(frozen=True)
@@ -48,19 +170,35 @@ class DocumentControl:
     document_date: date
     date_basis: str
     paper: str
+    status: DocumentStatus
+    policy: PolicyRecord
+    libraries: tuple[Fact, ...]
     caution: str = CAUTION
     signature_note: str = SIGNATURE_NOTE
+    reproducibility: str = REPRODUCIBILITY_CLAIM
 
     @property
     def running_title(self) -> str:
         return f"{self.study_id} · {self.title}"
 
+    @property
+    def policy_text(self) -> str:
+        return self.policy.describe()
 
-def document_date(plan: Plan, environ: dict[str, str] | os._Environ[str] | None = None) -> tuple[date, str]:
-    """The document's date: SOURCE_DATE_EPOCH when set (reproducible builds), else the plan's date.
+    @property
+    def checked_as_of(self) -> date:
+        return self.status.checked_as_of
+
+
+def document_date(plan: Plan, environ: dict[str, str] | os._Environ[str] | None = None,
+                  as_of: date | None = None) -> tuple[date, str]:
+    """The document's date: ``as_of`` when given (``--as-of``), else SOURCE_DATE_EPOCH when set
+    (reproducible builds), else the plan's date.
 
     Never the wall clock, so the same plan always gives the same document.
     """
+    if as_of is not None:
+        return as_of, "--as-of date"
     environ = os.environ if environ is None else environ
     raw = environ.get("SOURCE_DATE_EPOCH")
     if raw:
@@ -72,15 +210,19 @@ def document_date(plan: Plan, environ: dict[str, str] | os._Environ[str] | None 
     return plan.plan_date, "plan date"
 
 
-def document_control(loaded: LoadedPlan, kind: str, paper: str) -> DocumentControl:
+def document_control(loaded: LoadedPlan, kind: str, paper: str, check: DocumentCheck | None = None) -> DocumentControl:
+    """The control block of document ``kind``; ``check`` is the plan's check (default policy,
+    the plan's date when None)."""
     plan = valid_plan(loaded)
-    day, basis = document_date(plan)
+    check = check or document_check(loaded)
+    day, basis = document_date(plan, as_of=check.given_as_of)
     protocol = f"{plan.protocol.id} version {plan.protocol.version} ({plan.protocol.date.isoformat()})" if plan.protocol else None
     return DocumentControl(
         kind=kind, title=DOCUMENT_TITLES[kind], study_id=plan.study.id, study_title=plan.study.title,
         sponsor=plan.study.sponsor, protocol=protocol, plan_file=PurePath(loaded.source.file).name,
         plan_sha256=loaded.source.sha256, plan_date=plan.plan_date, format_version=plan.format_version,
-        tool_version=__version__, document_date=day, date_basis=basis, paper=paper)
+        tool_version=__version__, document_date=day, date_basis=basis, paper=paper,
+        status=document_status(plan, kind, check), policy=check.policy, libraries=library_versions())
 
 
 def valid_plan(loaded: LoadedPlan) -> Plan:

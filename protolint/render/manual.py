@@ -7,7 +7,7 @@ from dataclasses import dataclass
 
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Endpoint, Instrument, Plan, RaterPool
-from protolint.render.document import DocumentControl, Fact, document_control, valid_plan
+from protolint.render.document import DocumentCheck, DocumentControl, Fact, document_control, valid_plan
 from protolint.render.environment import number, words
 from protolint.render.phrases import (
     BLINDING_WORDS,
@@ -167,7 +167,7 @@ def _quick_reference(instrument: Instrument, endpoints: tuple[EndpointUse, ...],
     return tuple(rows)
 
 
-def manual_context(loaded: LoadedPlan, paper: str = "a4") -> ManualContext:
+def manual_context(loaded: LoadedPlan, paper: str = "a4", check: DocumentCheck | None = None) -> ManualContext:
     plan = valid_plan(loaded)
     sections = []
     for instrument in plan.instruments:
@@ -188,5 +188,5 @@ def manual_context(loaded: LoadedPlan, paper: str = "a4") -> ManualContext:
             quick_reference=_quick_reference(instrument, endpoint_uses, pools, plan)))
     visits = tuple(VisitRow(v.name or v.id, v.day, window_text(v.window_before, v.window_after)) for v in plan.schedule.visits)
     deviations = tuple(DeviationRow(words(d.kind), yes_no(d.important, "not stated"), d.handling) for d in plan.deviations)
-    return ManualContext(document_control(loaded, "manual", paper), tuple(sections), visits,
+    return ManualContext(document_control(loaded, "manual", paper, check), tuple(sections), visits,
                          plan.schedule.out_of_window, deviations)

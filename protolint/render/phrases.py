@@ -6,7 +6,9 @@ Free text stays raw here and is made safe by the template filters (autoescape fo
 
 from __future__ import annotations
 
-from protolint.plan.model import Criterion, Instrument, Plan, RaterPool
+from datetime import date
+
+from protolint.plan.model import Criterion, Instrument, Plan, RaterPool, Sop
 from protolint.render.document import Fact
 from protolint.render.environment import number, words
 
@@ -38,6 +40,17 @@ def criterion_text(criterion: Criterion | None) -> str:
         who = "every case" if share is None or share >= 1 else f"at least {share * 100:g} % of cases"
         parts.append(f"{who} within {number(criterion.max_deviation)} points of the reference total")
     return "; and ".join(parts) if parts else "not stated in the plan"
+
+
+def sop_status_text(sop: Sop, day: date) -> str:
+    """An SOP's status as of the document's date ``day``: an effective version whose effective
+    date is still to come is "effective from 2026-08-15 (not yet in force on 2026-07-15)"."""
+    status = sop.status or "effective"  # the schema's default
+    if status != "effective":
+        return words(status)
+    if sop.effective > day:
+        return f"effective from {sop.effective.isoformat()} (not yet in force on {day.isoformat()})"
+    return f"effective since {sop.effective.isoformat()}"
 
 
 def scale_text(instrument: Instrument) -> str:
