@@ -1,6 +1,8 @@
 # protolint — the two commands a fresh machine needs are `make demo` and `make test`.
 # Both create .venv/ when it is missing and install the project with every extra
-# (`.[all,test]`: documents, analyses and the test libraries) into it.
+# (`.[all,test]`: documents, analyses and the test libraries) into it, at the exact versions
+# of constraints.txt, so every machine renders the same document bytes
+# (`make constraints` rewrites the file from the working venv after a dependency change).
 
 PYTHON ?= python3
 VENV   ?= .venv
@@ -8,15 +10,16 @@ PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.protolint-installed
 OUT    ?= out
 DEMO   := demo_protocol/plan.yaml
+LOCK   := constraints.txt
 
-.PHONY: demo test bench install clean rules-doc lint
+.PHONY: demo test bench install clean rules-doc lint constraints
 
 install: $(STAMP)
 
-$(STAMP): pyproject.toml setup.py
+$(STAMP): pyproject.toml setup.py $(LOCK)
 	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install --quiet --upgrade pip setuptools wheel
-	$(PY) -m pip install --quiet -e '.[all,test]'
+	$(PY) -m pip install --quiet -c $(LOCK) -e '.[all,test]'
 	@touch $(STAMP)
 
 demo: $(STAMP)
@@ -52,12 +55,15 @@ bench: $(STAMP)
 
 # Type check and static checks (the dev extra); not part of `make test`.
 lint: $(STAMP)
-	$(PY) -m pip install --quiet -e '.[dev]'
+	$(PY) -m pip install --quiet -c $(LOCK) -e '.[dev]'
 	$(PY) -m ruff check --select F,E9 protolint tests bench tools
 	$(PY) -m mypy protolint
 
 rules-doc: $(STAMP)
 	$(PY) tools/write_rule_reference.py
+
+constraints: $(STAMP)
+	$(PY) tools/write_constraints.py
 
 clean:
 	rm -rf $(OUT) build dist *.egg-info .pytest_cache
