@@ -10,7 +10,7 @@ and the waivers makes every document a draft (:class:`DocumentStatus`).
 from __future__ import annotations
 
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import date, datetime, timezone
 from importlib import metadata
 from pathlib import PurePath
@@ -89,8 +89,11 @@ def document_check(loaded: LoadedPlan, policy: PolicyArg = None, as_of: date | N
 
     plan = valid_plan(loaded)
     chosen = resolve_policy(policy)
-    return DocumentCheck(check_plan(loaded, chosen, as_of), policy_record(chosen), as_of or plan.plan_date,
-                         as_of is not None)
+    record = policy_record(chosen)
+    if record.file is not None:
+        # Documents name their files without the folder they were rendered from, as the plan's.
+        record = replace(record, file=PurePath(record.file).name)
+    return DocumentCheck(check_plan(loaded, chosen, as_of), record, as_of or plan.plan_date, as_of is not None)
 
 
 @dataclass(frozen=True)

@@ -182,7 +182,7 @@ def test_calendar_records_policy_as_of_and_status(cli, tmp_path: Path) -> None:
     result = cli("calendar", DEMO, "--policy", policy, "--as-of", "2026-08-01")
     assert result.exit_code == 0
     unfolded = result.stdout.replace("\r\n ", "").replace("\n ", "")
-    assert f"under policy {policy} (SHA-256 {hashlib.sha256(policy.read_bytes()).hexdigest()})" in unfolded
+    assert f"under policy {policy.name} (SHA-256 {hashlib.sha256(policy.read_bytes()).hexdigest()})" in unfolded
     assert "checked as of 2026-08-01" in unfolded
     assert "DTSTAMP:20260801T000000Z" in unfolded
     assert f"icalendar {metadata.version('icalendar')}" in unfolded
