@@ -44,12 +44,12 @@ def command(old: str, new: str, fmt: str, output: str | None, fail_on_new: str |
     from protolint.findings import Severity
     from protolint.plan import read_source
 
-    from protolint.pipeline import check_source, resolve_policy
+    from protolint.pipeline import check_source, policy_record, resolve_policy
 
     chosen = resolve_policy(policy)  # read once; a bad policy file is exit 2 before any output
     old_source, new_source = read_source(old), read_source(new)
     comparison = compare_plans(old_source, new_source, check_source(old_source, chosen, as_of),
-                               check_source(new_source, chosen, as_of))
+                               check_source(new_source, chosen, as_of), policy_record(chosen), as_of is not None)
     text = render_comparison(fmt, comparison)
     emit(text, output, f"{fmt} comparison")
     if fail_on_new and comparison.introduced_at_or_above(Severity.parse(fail_on_new)):

@@ -22,7 +22,7 @@ from typing import TYPE_CHECKING, Any, Iterable
 
 from protolint.compare.keyed import keyed, real_path, stable_pointer
 from protolint.compare.words import describe_change
-from protolint.findings import Finding, Severity, pointer_from_path
+from protolint.findings import DEFAULT_POLICY_RECORD, Finding, PolicyRecord, Severity, pointer_from_path
 
 if TYPE_CHECKING:
     from protolint.findings import PlanResult
@@ -89,6 +89,20 @@ class PlanComparison:
     findings: tuple[FindingStatus, ...]
     patch: tuple[dict[str, Any], ...]
     """RFC 6902 operations that turn the old plan data into the new."""
+    policy: PolicyRecord = DEFAULT_POLICY_RECORD
+    """The policy both versions were checked under."""
+    old_as_of: str | None = None
+    new_as_of: str | None = None
+    as_of_given: bool = False
+    """True when ``--as-of`` dated both checks; otherwise each version's own plan_date did."""
+
+    def checked_under(self) -> str:
+        """"Both versions checked as of … under …", as every check report says it."""
+        if self.as_of_given or self.old_as_of == self.new_as_of:
+            when = f"as of {self.new_as_of or self.old_as_of or 'no date (neither version loads)'}"
+        else:
+            when = f"as of each version's own date (old {self.old_as_of or 'not dated'}, new {self.new_as_of or 'not dated'})"
+        return f"Both versions checked {when} under {self.policy.describe()}."
 
     def with_status(self, status: str) -> tuple[FindingStatus, ...]:
         return tuple(item for item in self.findings if item.status == status)
@@ -108,8 +122,10 @@ class PlanComparison:
 
     def to_json(self) -> dict[str, Any]:
         return {
-            "old": {"file": self.old_file, "sha256": self.old_sha256},
-            "new": {"file": self.new_file, "sha256": self.new_sha256},
+            "old": {"file": self.old_file, "sha256": self.old_sha256, "as_of": self.old_as_of},
+            "new": {"file": self.new_file, "sha256": self.new_sha256, "as_of": self.new_as_of},
+            "policy": self.policy.to_json(),
+            "as_of_basis": "given" if self.as_of_given else "plan_date",
             "counts": self.counts(),
             "changes": [change.to_json() for change in self.changes],
             "findings": {status: [item.to_json() for item in self.with_status(status)] for status in FINDING_STATUSES},
@@ -117,8 +133,10 @@ class PlanComparison:
         }
 
 
-def compare_plans(old: LoadedSource, new: LoadedSource, old_result: PlanResult, new_result: PlanResult) -> PlanComparison:
-    """Compare two loaded versions of a plan and their check results."""
+def compare_plans(old: LoadedSource, new: LoadedSource, old_result: PlanResult, new_result: PlanResult,
+                  policy: PolicyRecord = DEFAULT_POLICY_RECORD, as_of_given: bool = False) -> PlanComparison:
+    """Compare two loaded versions of a plan and their check results (made under ``policy``;
+    ``as_of_given`` when ``--as-of`` dated both)."""
     import jsonpatch
 
     return PlanComparison(
@@ -130,6 +148,7 @@ def compare_plans(old: LoadedSource, new: LoadedSource, old_result: PlanResult, 
         findings=tuple(finding_statuses(old.data, new.data, old_result.findings, new_result.findings,
                                         new_rules_ran=rules_ran(new_result))),
         patch=tuple(jsonpatch.make_patch(old.data, new.data).patch),
+        policy=policy, old_as_of=old_result.as_of, new_as_of=new_result.as_of, as_of_given=as_of_given,
     )
 
 

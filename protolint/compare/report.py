@@ -48,7 +48,7 @@ def as_json(comparison: PlanComparison) -> str:
 
 def as_text(comparison: PlanComparison) -> str:
     out = [f"protolint diff: {one_line(comparison.old_file)} → {one_line(comparison.new_file)}",
-           summary(comparison), ""]
+           summary(comparison), one_line(comparison.checked_under()), ""]
     if comparison.changes:
         out.append("Changes in the plan")
         for change in comparison.changes:
@@ -82,7 +82,7 @@ def as_markdown(comparison: PlanComparison) -> str:
     # comparison, like text and JSON, needs the core install alone.
     from protolint.report.fmt_markdown import escape as esc
 
-    out = [f"# Plan comparison: {esc(comparison.old_file)} → {esc(comparison.new_file)}", "", esc(summary(comparison)), ""]
+    out = [f"# Plan comparison: {esc(comparison.old_file)} → {esc(comparison.new_file)}", "", esc(summary(comparison)), "", esc(comparison.checked_under()), ""]
     out += ["## Changes in the plan", ""]
     if comparison.changes:
         out += ["| Change | What | Pointer (new version) | Lines |", "|---|---|---|---|"]

@@ -99,3 +99,21 @@ def test_human_formats_say_default_policy(cli, demo_plan, fmt: str) -> None:
     out = " ".join(cli("check", demo_plan, "--format", fmt, "--fail-on", "never").stdout.split())
     assert "the default policy (no policy file)" in out
     assert "not recorded" not in out
+
+
+def test_diff_checks_both_versions_under_the_policy_and_date(cli, demo_plan, policy) -> None:
+    default = json.loads(cli("diff", demo_plan, demo_plan, "--format", "json").stdout)
+    checked = json.loads(cli("diff", demo_plan, demo_plan, "--format", "json", "--policy", policy,
+                             "--as-of", "2027-01-01").stdout)
+    assert checked["policy"]["sha256"] == _sha(policy) and checked["policy"]["changed"] == CHANGED
+    assert checked["old"]["as_of"] == checked["new"]["as_of"] == "2027-01-01"
+    assert checked["as_of_basis"] == "given" and default["as_of_basis"] == "plan_date"
+    assert default["policy"]["file"] == "default"
+
+    def rules(document):
+        return {item["rule"] for item in document["findings"]["unchanged"]}
+    # The policy and the date really were applied: a rule switched off, an expired waiver reported.
+    assert "documents/deviations-incomplete" in rules(default) - rules(checked)
+    assert "waivers/expired" in rules(checked) - rules(default)
+    text = " ".join(cli("diff", demo_plan, demo_plan, "--policy", policy).stdout.split())
+    assert f"Both versions checked as of 2026-07-15 under policy {policy} (SHA-256 {_sha(policy)})" in text
