@@ -11,12 +11,13 @@ resolve, so builders do not re-validate.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import types
 import typing
 from dataclasses import dataclass
 from datetime import date as Date
-from functools import lru_cache
-from typing import Any, TypeVar
+from functools import cached_property, lru_cache
+from typing import Any, Callable, TypeVar
 
 Path = tuple[str | int, ...]
 
@@ -96,7 +97,14 @@ class Study:
         return 1.0
 
     def site(self, site_id: str) -> Site:
-        return next(site for site in self.sites if site.id == site_id)
+        return self._sites_by_id[site_id]
+
+    @cached_property
+    def _sites_by_id(self) -> dict[str, Site]:
+        index: dict[str, Site] = {}
+        for site in self.sites:
+            index.setdefault(site.id, site)
+        return index
 
 
 @dataclass(frozen=True)
@@ -442,20 +450,25 @@ class Plan:
     waivers: tuple[Waiver, ...] = ()
     documents: DocumentIdentities | None = None
 
+    # Look-ups by id go through indexes built once per plan, so a rule that looks up every
+    # endpoint's pool and visits stays linear in the plan's size. The model is immutable, so an
+    # index can never go stale; ``cached_property`` stores it beside the fields (not a field:
+    # equality, ``dataclasses.fields`` and ``replace`` do not see it).
+
     def instrument(self, instrument_id: str) -> Instrument:
-        return next(item for item in self.instruments if item.id == instrument_id)
+        return self._by_id("instruments")[instrument_id]
 
     def endpoint(self, endpoint_id: str) -> Endpoint:
-        return next(item for item in self.endpoints if item.id == endpoint_id)
+        return self._by_id("endpoints")[endpoint_id]
 
     def pool(self, pool_id: str) -> RaterPool:
-        return next(item for item in self.rater_pools if item.id == pool_id)
+        return self._by_id("rater_pools")[pool_id]
 
     def visit(self, visit_id: str) -> Visit:
-        return next(item for item in self.schedule.visits if item.id == visit_id)
+        return self._by_id("visits")[visit_id]
 
     def endpoints_for(self, instrument_id: str) -> tuple[Endpoint, ...]:
-        return tuple(item for item in self.endpoints if item.instrument == instrument_id)
+        return self._endpoints_by_instrument.get(instrument_id, ())
 
     def people_pools(self) -> tuple[RaterPool, ...]:
         """Pools that rate at least one instrument scored by people (the ones that need
@@ -463,8 +476,59 @@ class Plan:
         return tuple(pool for pool in self.rater_pools
                      if any(self.instrument(i).is_rated_by_people for i in pool.instruments))
 
+    def _by_id(self, section: str) -> dict[str, Any]:
+        return self._indexes[section]
+
+    @cached_property
+    def _indexes(self) -> dict[str, dict[str, Any]]:
+        sections = {"instruments": self.instruments, "endpoints": self.endpoints,
+                    "rater_pools": self.rater_pools, "visits": self.schedule.visits}
+        indexes: dict[str, dict[str, Any]] = {}
+        for name, items in sections.items():
+            index: dict[str, Any] = {}
+            for item in items:
+                index.setdefault(item.id, item)  # the first of a repeated id, as a search would find
+            indexes[name] = index
+        return indexes
+
+    @cached_property
+    def _endpoints_by_instrument(self) -> dict[str, tuple[Endpoint, ...]]:
+        grouped: dict[str, list[Endpoint]] = {}
+        for endpoint in self.endpoints:
+            grouped.setdefault(endpoint.instrument, []).append(endpoint)
+        return {instrument: tuple(endpoints) for instrument, endpoints in grouped.items()}
+
 
 T = TypeVar("T")
+F = TypeVar("F", bound=Callable[..., Any])
+
+
+def per_plan(function: F) -> F:
+    """Compute a derived fact once per plan: memoised on the plan object itself.
+
+    Derived facts are pure functions of the immutable plan, and several rules and documents
+    ask for the same one (the rated visit days, a pool's monitoring rounds); computing it once
+    keeps a check linear in the plan's size. The arguments after the plan are compared by
+    value (frozen model objects hash by value), so a fact never answers for another argument.
+    The memo lives in the plan's ``__dict__`` (a frozen dataclass forbids attribute assignment,
+    not that), so it goes when the plan goes; a plan that is not a model object is not memoised.
+    """
+    name = f"{function.__module__}.{function.__qualname__}"
+
+    @functools.wraps(function)
+    def memoised(plan: Any, *args: Any) -> Any:
+        store = getattr(plan, "__dict__", None)
+        if store is None:
+            return function(plan, *args)
+        memo = store.setdefault("_derived_facts", {})
+        key = (name, *args)
+        try:
+            return memo[key]
+        except KeyError:
+            value = memo[key] = function(plan, *args)
+            return value
+
+    return memoised  # type: ignore[return-value]
 
 
 def build_plan(data: dict[str, Any]) -> Plan:

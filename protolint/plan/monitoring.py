@@ -26,7 +26,7 @@ from dataclasses import dataclass
 from datetime import date, timedelta
 
 from protolint.plan.model import Plan, RaterPool
-from protolint.plan.timeline import add_months, endpoint_first_assessment, pool_sites, study_window
+from protolint.plan.timeline import add_months, endpoints_first_assessment, pool_sites, study_window
 
 __all__ = [
     "CENTRAL", "MonitoringRound", "PoolSiteSpan", "monitoring_rounds", "pool_spans", "recertification_dates",
@@ -66,13 +66,8 @@ def pool_spans(plan: Plan, pool: RaterPool) -> tuple[PoolSiteSpan, ...]:
     last = study_window(plan).last
     sites = pool_sites(plan, pool.id)
     if not sites:
-        first = min(endpoint_first_assessment(plan, endpoint) for endpoint in endpoints)
-        return (PoolSiteSpan(pool.id, CENTRAL, first, last),)
-    spans = []
-    for site in sites:
-        first = min(endpoint_first_assessment(plan, endpoint, site) for endpoint in endpoints)
-        spans.append(PoolSiteSpan(pool.id, site, first, last))
-    return tuple(spans)
+        return (PoolSiteSpan(pool.id, CENTRAL, endpoints_first_assessment(plan, endpoints), last),)
+    return tuple(PoolSiteSpan(pool.id, site, endpoints_first_assessment(plan, endpoints, site), last) for site in sites)
 
 
 def rounds_between(pool: str, site: str, start: date, end: date, interval_weeks: int) -> tuple[MonitoringRound, ...]:

@@ -2,12 +2,25 @@
 
 Messages are written for a protocol writer: they name the key, the value and what was
 expected, never the validator's internals.
+
+Two validators, one answer. Most plans a CI job checks are valid, so every plan is first
+screened by ``jsonschema_rs`` (compiled, draft 2020-12), which only says valid or not; a plan it
+passes has no schema findings. Only a plan it rejects goes through ``jsonschema``, whose errors
+carry the instance paths our located messages are made from, so every message is the one the
+located path has always given. The screen may be stricter than ``jsonschema`` (its regular
+expressions end at the end of the text, not before a final line break), never looser: every
+``format`` the schema uses is checked by the same rule as ``jsonschema``'s format checker
+(``date`` here, the others by asking that checker itself), and data the screen cannot take
+(an integer beyond 64 bits) goes the located way. ``tests/plan/test_schema_screen.py`` holds
+both validators to the same verdict.
 """
 
 from __future__ import annotations
 
+import re
+from datetime import date
 from functools import lru_cache
-from typing import Any
+from typing import Any, Callable
 
 from protolint.findings import Finding, Severity, finding_at
 from protolint.plan.source import LoadedSource, Path
@@ -64,7 +77,71 @@ def _inline_local_refs(schema: dict[str, Any]) -> dict[str, Any]:
 
 def schema_findings(source: LoadedSource, schema_name: str = PLAN_SCHEMA) -> list[Finding]:
     """One located finding per schema violation (in the validator's order; results sort them)."""
+    if passes_screen(source.data, schema_name):
+        return []
     return [_finding(error, source) for error in validator_for(schema_name).iter_errors(source.data)]
+
+
+def passes_screen(data: Any, schema_name: str = PLAN_SCHEMA) -> bool:
+    """True when the compiled validator finds ``data`` valid (then ``jsonschema`` does too)."""
+    try:
+        return bool(_screen_for(schema_name).is_valid(data))
+    except (ValueError, TypeError, OverflowError):  # data it cannot convert: the located path decides
+        return False
+
+
+@lru_cache(maxsize=None)
+def _screen_for(schema_name: str):  # noqa: ANN202 - jsonschema_rs's validator class
+    import jsonschema_rs
+
+    schema = load_schema(schema_name)
+    checks = {name: _FORMAT_CHECKS.get(name) or _library_format_check(name) for name in _formats_in(schema)}
+    return jsonschema_rs.Draft202012Validator(schema, validate_formats=True, formats=checks)
+
+
+# jsonschema's "date" check (jsonschema/_format.py, is_date): four, two and two ASCII digits
+# that make a real date for Python's date.fromisoformat. Written out so that a valid plan is
+# screened without importing jsonschema; the screen's test compares it with jsonschema's own.
+_ISO_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$", re.ASCII)
+
+
+def is_calendar_date(text: str) -> bool:
+    """A date written YYYY-MM-DD that exists in the calendar (``format: date`` of the schemas)."""
+    if not _ISO_DATE.fullmatch(text):
+        return False
+    try:
+        date.fromisoformat(text)
+    except ValueError:
+        return False
+    return True
+
+
+_FORMAT_CHECKS: dict[str, Callable[[str], bool]] = {"date": is_calendar_date}
+
+
+def _library_format_check(name: str) -> Callable[[str], bool]:
+    """Any other format is asked of jsonschema's checker, so the screen never judges it differently."""
+    def conforms(text: str) -> bool:
+        from jsonschema import Draft202012Validator
+
+        return bool(Draft202012Validator.FORMAT_CHECKER.conforms(text, name))
+
+    return conforms
+
+
+def _formats_in(node: Any) -> set[str]:
+    if isinstance(node, dict):
+        found = {node["format"]} if isinstance(node.get("format"), str) else set()
+        for key, value in node.items():
+            if key not in ("properties", "$defs", "patternProperties"):
+                found |= _formats_in(value)
+            elif isinstance(value, dict):
+                for child in value.values():
+                    found |= _formats_in(child)
+        return found
+    if isinstance(node, list):
+        return set().union(*(_formats_in(item) for item in node)) if node else set()
+    return set()
 
 
 def _finding(error: Any, source: LoadedSource) -> Finding:

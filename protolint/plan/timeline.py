@@ -16,8 +16,9 @@ from __future__ import annotations
 import calendar
 from dataclasses import dataclass
 from datetime import date, timedelta
+from typing import Iterable
 
-from protolint.plan.model import Endpoint, Plan, RaterCertification
+from protolint.plan.model import Endpoint, Plan, RaterCertification, per_plan
 
 
 @dataclass(frozen=True)
@@ -30,10 +31,22 @@ class RatingWindow:
         return (self.last - self.first).days
 
 
-def rated_visit_days(plan: Plan, endpoints: tuple[Endpoint, ...] | None = None) -> list[int]:
-    chosen = plan.endpoints if endpoints is None else endpoints
-    days = sorted({plan.visit(visit).day for endpoint in chosen for visit in endpoint.visits})
-    return days or sorted(v.day for v in plan.schedule.visits)
+def rated_visit_days(plan: Plan, endpoints: tuple[Endpoint, ...] | None = None) -> tuple[int, ...]:
+    """The schedule days on which ``endpoints`` (every endpoint when None) are rated, in order."""
+    if endpoints is None:
+        return _all_rated_visit_days(plan)
+    return _visit_days(plan, endpoints)
+
+
+@per_plan
+def _all_rated_visit_days(plan: Plan) -> tuple[int, ...]:
+    # Asked once per endpoint and site by the rules: computed once per plan.
+    return _visit_days(plan, plan.endpoints)
+
+
+def _visit_days(plan: Plan, endpoints: tuple[Endpoint, ...]) -> tuple[int, ...]:
+    days = sorted({plan.visit(visit).day for endpoint in endpoints for visit in endpoint.visits})
+    return tuple(days or sorted(v.day for v in plan.schedule.visits))
 
 
 def participant_span_days(plan: Plan) -> int:
@@ -50,20 +63,28 @@ def study_window(plan: Plan) -> RatingWindow:
 
 def endpoint_first_assessment(plan: Plan, endpoint: Endpoint, site_id: str | None = None) -> date:
     """First date the endpoint is rated (at a site, when given)."""
-    all_days = rated_visit_days(plan)
-    own_days = sorted(plan.visit(v).day for v in endpoint.visits)
+    return endpoints_first_assessment(plan, (endpoint,), site_id)
+
+
+def endpoints_first_assessment(plan: Plan, endpoints: Iterable[Endpoint], site_id: str | None = None) -> date:
+    """First date any of ``endpoints`` (at least one) is rated (at a site, when given).
+
+    Every endpoint is offset from the same start by its first rated day, so the earliest of
+    them is the one with the earliest day: one pass over the endpoints, whatever the sites.
+    """
+    first_day = min(plan.visit(v).day for endpoint in endpoints for v in endpoint.visits)
     start = plan.study.first_assessment
     if site_id is not None:
         site = plan.study.site(site_id)
         start = site.first_assessment or start
-    return start + timedelta(days=own_days[0] - all_days[0])
+    return start + timedelta(days=first_day - rated_visit_days(plan)[0])
 
 
 def instrument_first_assessment(plan: Plan, instrument_id: str) -> date | None:
     endpoints = plan.endpoints_for(instrument_id)
     if not endpoints:
         return None
-    return min(endpoint_first_assessment(plan, endpoint) for endpoint in endpoints)
+    return endpoints_first_assessment(plan, endpoints)
 
 
 def pool_sites(plan: Plan, pool_id: str) -> tuple[str, ...]:
