@@ -19,9 +19,11 @@ Nothing here imports numpy, scipy, matplotlib or weasyprint: ``check`` runs in p
 
 from __future__ import annotations
 
+import gc
 import os
+from contextlib import contextmanager
 from datetime import date
-from typing import TYPE_CHECKING, Iterable, Union
+from typing import TYPE_CHECKING, Iterable, Iterator, Union
 
 from protolint.findings import CheckResult, PlanResult, PolicyRecord
 
@@ -49,14 +51,34 @@ def check_files(paths: Iterable[str | os.PathLike[str]], policy: PolicyArg = Non
 
     chosen = resolve_policy(policy)
     sources, unreadable = [], []
-    for path in paths:
-        try:
-            sources.append(read_source(os.fspath(path)))
-        except LocatedError as error:
-            unreadable.append(error)
-    if unreadable:
-        raise InputErrors(unreadable)
-    return result_of((check_source(source, chosen, as_of) for source in sources), chosen, as_of)
+    with collector_paused():
+        for path in paths:
+            try:
+                sources.append(read_source(os.fspath(path)))
+            except LocatedError as error:
+                unreadable.append(error)
+        if unreadable:
+            raise InputErrors(unreadable)
+        return result_of((check_source(source, chosen, as_of) for source in sources), chosen, as_of)
+
+
+@contextmanager
+def collector_paused() -> Iterator[None]:
+    """Pause Python's cyclic garbage collector while plans are loaded and checked.
+
+    Loading and checking make many small objects (YAML nodes, source spans, model objects) and
+    no reference cycles, so reference counting frees everything and the collector only re-scans
+    what is alive: its passes grow with the plans already read and made loading a large plan
+    superlinear (3x at 1.4 MB). The collector is switched back on (if it was on) when the block
+    ends, however it ends.
+    """
+    was_enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was_enabled:
+            gc.enable()
 
 
 def check_source(source: LoadedSource, policy: PolicyArg = None, as_of: date | None = None) -> PlanResult:
@@ -64,7 +86,8 @@ def check_source(source: LoadedSource, policy: PolicyArg = None, as_of: date | N
     from protolint.plan import load_plan
     from protolint.rules.engine import check_loaded
 
-    return check_loaded(load_plan(source), resolve_policy(policy), as_of)
+    with collector_paused():
+        return check_loaded(load_plan(source), resolve_policy(policy), as_of)
 
 
 def check_plan(loaded: LoadedPlan, policy: PolicyArg = None, as_of: date | None = None) -> PlanResult:
@@ -80,7 +103,8 @@ def check_text(text: str | bytes, name: str = "plan.yaml", policy: PolicyArg = N
     from protolint.plan.source import load_source
 
     raw = text.encode("utf-8") if isinstance(text, str) else text
-    return check_source(load_source(raw, name), policy, as_of)
+    with collector_paused():
+        return check_source(load_source(raw, name), policy, as_of)
 
 
 def result_of(plans: Iterable[PlanResult], policy: PolicyArg = None, as_of: date | None = None) -> CheckResult:

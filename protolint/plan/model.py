@@ -536,38 +536,62 @@ def build_plan(data: dict[str, Any]) -> Plan:
     return _build(Plan, data, ())
 
 
-@lru_cache(maxsize=None)
-def _hints(cls: Any) -> dict[str, Any]:
-    return typing.get_type_hints(cls)
+Convert = Callable[[Any, Path], Any]
 
 
 def _build(cls: Any, data: dict[str, Any], path: Path) -> Any:
-    hints = _hints(cls)
     values: dict[str, Any] = {"path": path}
-    for field in dataclasses.fields(cls):
-        if field.name == "path" or field.name not in data:
-            continue
-        values[field.name] = _convert(hints[field.name], data[field.name], path + (field.name,))
+    for name, convert in _field_converters(cls):
+        if name in data:
+            raw = data[name]
+            values[name] = None if raw is None else convert(raw, path + (name,))
     return cls(**values)
 
 
-def _convert(hint: Any, raw: Any, path: Path) -> Any:
-    if raw is None:
-        return None
+@lru_cache(maxsize=None)
+def _field_converters(cls: Any) -> tuple[tuple[str, Convert], ...]:
+    """(field, converter) for every field but ``path``, worked out once per model class from its
+    type hints, so building a large plan does not read the hints again for every value."""
+    hints = typing.get_type_hints(cls)
+    return tuple((field.name, _converter(hints[field.name])) for field in dataclasses.fields(cls) if field.name != "path")
+
+
+def _same(raw: Any, path: Path) -> Any:
+    return raw
+
+
+def _to_date(raw: Any, path: Path) -> Any:
+    return Date.fromisoformat(raw)
+
+
+def _to_float(raw: Any, path: Path) -> Any:
+    return float(raw)
+
+
+def _to_int(raw: Any, path: Path) -> Any:
+    # JSON Schema counts 10.0 as an integer; the model holds a real int.
+    return int(raw)
+
+
+@lru_cache(maxsize=None)
+def _converter(hint: Any) -> Convert:
+    """The function that turns schema-valid data into a value of ``hint`` (never given None)."""
     origin = typing.get_origin(hint)
     if origin in (typing.Union, types.UnionType):
         inner = [arg for arg in typing.get_args(hint) if arg is not type(None)]
-        return _convert(inner[0], raw, path)
+        return _converter(inner[0])
     if origin is tuple:
-        item_hint = typing.get_args(hint)[0]
-        return tuple(_convert(item_hint, item, path + (index,)) for index, item in enumerate(raw))
+        item = _converter(typing.get_args(hint)[0])
+        if item is _same:
+            return lambda raw, path: tuple(raw)
+        return lambda raw, path: tuple(None if value is None else item(value, path + (index,))
+                                       for index, value in enumerate(raw))
     if hint is Date:
-        return Date.fromisoformat(raw)
+        return _to_date
     if hint is float:
-        return float(raw)
+        return _to_float
     if hint is int:
-        # JSON Schema counts 10.0 as an integer; the model holds a real int.
-        return int(raw)
+        return _to_int
     if dataclasses.is_dataclass(hint):
-        return _build(hint, raw, path)
-    return raw
+        return lambda raw, path: _build(hint, raw, path)
+    return _same

@@ -96,7 +96,28 @@ def _screen_for(schema_name: str):  # noqa: ANN202 - jsonschema_rs's validator c
 
     schema = load_schema(schema_name)
     checks = {name: _FORMAT_CHECKS.get(name) or _library_format_check(name) for name in _formats_in(schema)}
-    return jsonschema_rs.Draft202012Validator(schema, validate_formats=True, formats=checks)
+    return jsonschema_rs.Draft202012Validator(schema, validate_formats=True, formats=checks,
+                                              keywords={"pattern": _ScreenPattern})
+
+
+def pattern_regex(pattern: str) -> re.Pattern[str]:
+    """How a schema ``pattern`` is matched (``search``, as jsonschema's ``pattern`` keyword does)."""
+    return _compiled(pattern)
+
+
+_compiled = lru_cache(maxsize=None)(re.compile)
+
+
+class _ScreenPattern:
+    """The screen's ``pattern`` keyword: the located path's regular expression semantics, not
+    the compiled engine's, so the two never disagree about an id or a code."""
+
+    def __init__(self, parent_schema: dict[str, Any], value: str, schema_path: list[Any]) -> None:
+        self.regex = pattern_regex(value)
+
+    def validate(self, instance: Any) -> None:
+        if isinstance(instance, str) and not self.regex.search(instance):
+            raise ValueError("does not match the pattern")
 
 
 # jsonschema's "date" check (jsonschema/_format.py, is_date): four, two and two ASCII digits

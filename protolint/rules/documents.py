@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import dataclasses
 import re
+from functools import lru_cache
 from typing import Any, Iterator
 
 from protolint.plan.model import Plan
@@ -94,9 +95,18 @@ _STARTER_PLACEHOLDER = re.compile(r"^\s*replace[\s_-]+with\b", re.IGNORECASE)
 _GAP_MARKER = re.compile(r"^\s*(?:TBD|TBC|TBA|TODO|FIXME|XXX+)\b|^\s*\?{2,}\s*$|\bXXX+\b|\?{3,}", re.IGNORECASE)
 
 
+# A value can match either pattern only if its first non-space character starts one of the
+# markers or the starter's "Replace", or it holds "xxx" or "??" somewhere; most texts do not, and
+# skipping the two searches for them is most of this rule's cost on a large plan.
+_MARKER_STARTS = frozenset("tTfFxXrR?")
+
+
 def _unfinished(value: str) -> str | None:
-    if not value.strip():
+    stripped = value.lstrip()
+    if not stripped:
         return "is empty"
+    if stripped[0] not in _MARKER_STARTS and "??" not in value and "xxx" not in value.lower():
+        return None
     if _STARTER_PLACEHOLDER.search(value):
         return f"still holds the starter's placeholder '{_shorten(value)}'"
     if _GAP_MARKER.search(value):
@@ -109,28 +119,40 @@ def _shorten(value: str, limit: int = 60) -> str:
     return value if len(value) <= limit else value[: limit - 1] + "…"
 
 
-def _text_values(node: Any, label: tuple[str, ...]) -> Iterator[tuple[tuple[str | int, ...], tuple[str, ...], str]]:
-    """Every text value below ``node`` with its data path and a readable label (ids instead of
-    list positions, so the writer sees "instruments SCALE-1 evidence EVIDENCE-1 citation")."""
-    if not dataclasses.is_dataclass(node) or isinstance(node, type):
-        return
-    base: tuple[str | int, ...] = node.path  # type: ignore[attr-defined]  # every model object keeps its data path
-    for field in dataclasses.fields(node):
-        if field.name == "path":
-            continue
-        value = getattr(node, field.name)
-        here = label + (field.name,)
+def _unfinished_texts(node: Any, label: tuple[str, ...],
+                      found: list[tuple[tuple[str | int, ...], tuple[str, ...], str, str]]) -> None:
+    """Add every unfinished text value below ``node`` to ``found``, with its data path, a
+    readable label (ids instead of list positions, so the writer sees "instruments SCALE-1
+    evidence EVIDENCE-1 citation") and why it is unfinished.
+
+    One pass over the typed plan that only builds a path for a value that is reported: this
+    rule reads every text of the plan, so it is the one whose cost grows fastest with its size.
+    """
+    for name in _text_fields(type(node)):
+        value = getattr(node, name)
         if isinstance(value, str):
-            yield base + (field.name,), here, value
+            why = _unfinished(value)
+            if why is not None:
+                found.append((node.path + (name,), label + (name,), value, why))
         elif isinstance(value, tuple):
             for index, item in enumerate(value):
                 if isinstance(item, str):
-                    yield base + (field.name, index), here, item
-                else:
-                    name = getattr(item, "id", None) or getattr(item, "kind", None)
-                    yield from _text_values(item, here + ((str(name) if name else f"#{index + 1}"),))
-        else:
-            yield from _text_values(value, here)
+                    why = _unfinished(item)
+                    if why is not None:
+                        found.append((node.path + (name, index), label + (name,), item, why))
+                elif _text_fields(type(item)):
+                    item_name = getattr(item, "id", None) or getattr(item, "kind", None)
+                    _unfinished_texts(item, label + (name, str(item_name) if item_name else f"#{index + 1}"), found)
+        elif _text_fields(type(value)):
+            _unfinished_texts(value, label + (name,), found)
+
+
+@lru_cache(maxsize=None)
+def _text_fields(cls: type) -> tuple[str, ...]:
+    """The fields of a model class that can hold text (all but ``path``); none for a value."""
+    if not dataclasses.is_dataclass(cls):
+        return ()
+    return tuple(field.name for field in dataclasses.fields(cls) if field.name != "path")
 
 
 @rule("documents/placeholder-value", "error", waivable=False,
@@ -150,9 +172,9 @@ def placeholder_value(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
 
     **Fails**: `title: Replace with the full study title`, or `sponsor: TBD`.
     """
-    for path, label, value in _text_values(plan, ()):
-        why = _unfinished(value)
-        if why is not None:
-            section, *rest = label
-            yield Hit(path, f"{section}: {' '.join(rest) or section} {why}; write the trial's own value",
-                      {"section": section, "value": value})
+    found: list[tuple[tuple[str | int, ...], tuple[str, ...], str, str]] = []
+    _unfinished_texts(plan, (), found)
+    for path, label, value, why in found:
+        section, *rest = label
+        yield Hit(path, f"{section}: {' '.join(rest) or section} {why}; write the trial's own value",
+                  {"section": section, "value": value})

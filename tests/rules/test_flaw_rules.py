@@ -74,3 +74,17 @@ def test_placeholder_in_a_list_is_found() -> None:
     text = _edit(("content: [rating conventions, practice ratings]", "content: [rating conventions, TODO]"))
     (hit,) = _hits(text, "documents/placeholder-value")
     assert hit.message.startswith("rater_pools: POOL-A training content is marked unfinished ('TODO')")
+
+
+@pytest.mark.parametrize("title, unfinished", [
+    ("TBD", True), ("tbd later", True), ("  TBA", True), ("ToDo: the title", True), ("FIXME", True), ("XXX", True),
+    ("XXXX", True), ("the xxx trial", True), ("??", True), ("  ???  ", True), ("what???", True),
+    ("Replace with the title", True), ("REPLACE_WITH title", True), ("   ", True),
+    ("a ?? b", False), ("Todos for raters", False), ("taxxx", False), ("Rater training trial", False),
+    ("Fixed-dose trial", False), ("Xerosis trial", False), ("Trial? Yes", False), ("replaced with care", False),
+])
+def test_placeholder_markers_at_the_start_inside_and_absent(title: str, unfinished: bool) -> None:
+    # Quoted, so the YAML keeps leading and trailing spaces.
+    quoted = '"' + title + '"'
+    hits = _hits(_edit(("title: Invented test trial", f"title: {quoted}")), "documents/placeholder-value")
+    assert [hit.facts["value"] for hit in hits] == ([title] if unfinished else [])
