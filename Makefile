@@ -50,8 +50,9 @@ test: $(STAMP)
 	@$(PY) -m pytest $(PYTEST_ARGS); rc=$$?; \
 	  if [ $$rc -eq 5 ]; then echo "make test: pytest collected no tests" >&2; exit 1; fi; exit $$rc
 
+# One table of every speed target (bench/run_all.py collects each bench/bench_*.py's rows()).
 bench: $(STAMP)
-	@for script in bench/bench_*.py; do echo "== $$script"; $(PY) $$script || exit 1; done
+	@$(PY) bench/run_all.py $(BENCH_ARGS)
 
 # Type check and static checks (the dev extra); not part of `make test`.
 lint: $(STAMP)

@@ -136,12 +136,14 @@ def rows(quick: bool = False) -> list[Row]:
         naive = [sys.executable, "-c", NAIVE, str(SCHEMA), *plans]
         many = side_by_side({"text": [*check, *plans], "sarif": [*check, "--format", "sarif", *plans], "naive": naive},
                             max(3, runs // 2))
+        naive_per_plan = many["naive"] / MANY
         for name, label in (("text", "text report"), ("sarif", "SARIF report")):
             per_plan = many[name] / MANY
             ratio = many[name] / many["naive"]
-            out.append((f"check, {MANY} distinct valid plans in one call ({label}) vs naive PyYAML C loader + jsonschema script",
-                        f"{_ms(per_plan)} vs {_ms(many['naive'] / MANY)} a plan ({ratio:.2f}x)",
-                        "<= 8 ms a plan, <= 0.4x naive", per_plan <= 0.008 and ratio <= 0.4))
+            what = f"check, {MANY} distinct valid plans in one call, {label}"
+            out.append((f"{what}, time a plan", _ms(per_plan), "<= 8 ms a plan", per_plan <= 0.008))
+            out.append((f"{what}, vs naive script (PyYAML C loader + jsonschema)",
+                        f"{_ms(per_plan)} vs {_ms(naive_per_plan)} a plan ({ratio:.2f}x)", "<= 0.4x naive", ratio <= 0.4))
 
         large = many_endpoints(Path(folder), ENDPOINTS)
         seconds = side_by_side({"large": [*check, large]}, 1 if quick else 3)["large"]

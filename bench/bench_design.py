@@ -62,17 +62,32 @@ def whole_process(path: Path) -> float:
     return time.perf_counter() - start
 
 
+def measure(repeat: int) -> tuple[float, float]:
+    """Median seconds of the analysis in-process and of the whole ``design`` process."""
+    with tempfile.TemporaryDirectory() as folder:
+        path = Path(folder) / "pilot.csv"
+        write_pilot(path)
+        in_process(path)  # warm-up: imports
+        library = statistics.median(in_process(path) for _ in range(repeat))
+        process = statistics.median(whole_process(path) for _ in range(repeat))
+    return library, process
+
+
+def rows(quick: bool = False) -> list[tuple[str, str, str, bool]]:
+    """``(measure, result, target, met)`` rows for the combined table (bench/run_all.py)."""
+    library, process = measure(3 if quick else 5)
+    what = "design, 200 x 10 x 4 pilot, k <= 10, m <= 10 (100 designs)"
+    target = f"<= {TARGET_SECONDS:g} s"
+    return [(f"{what}, in-process (median)", f"{library:.2f} s", target, library <= TARGET_SECONDS),
+            (f"{what}, whole process (median, wall)", f"{process:.2f} s", target, process <= TARGET_SECONDS)]
+
+
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__)
     parser.add_argument("--strict", action="store_true", help="exit 1 when the target is missed")
     parser.add_argument("--repeat", type=int, default=5)
     args = parser.parse_args()
-    with tempfile.TemporaryDirectory() as folder:
-        path = Path(folder) / "pilot.csv"
-        write_pilot(path)
-        in_process(path)  # warm-up: imports
-        library = statistics.median(in_process(path) for _ in range(args.repeat))
-        process = statistics.median(whole_process(path) for _ in range(args.repeat))
+    library, process = measure(args.repeat)
     ok = library <= TARGET_SECONDS and process <= TARGET_SECONDS
     print(f"design 200 x 10 x 4 pilot, search k <= 10, m <= 10 (100 designs): "
           f"in-process {library:.3f} s, whole process {process:.3f} s (target {TARGET_SECONDS:.0f} s) "

@@ -67,6 +67,26 @@ def run(args: list[str]) -> tuple[float, float]:
     return elapsed, cpu
 
 
+TARGET_SECONDS = 5.0
+
+
+def rows(quick: bool = False) -> list[tuple[str, str, str, bool]]:
+    """``(measure, result, target, met)`` rows for the combined table (bench/run_all.py): each
+    format's whole process at 500 raters x 40 rounds x 5 cases, median CPU time of 3 runs."""
+    out = []
+    with tempfile.TemporaryDirectory() as folder:
+        data = Path(folder) / "ratings.csv"
+        count = write_data(data, 500, 40, 5)
+        for fmt in ("text", "json"):
+            runs = [run([str(data), "--format", fmt, "--output", str(Path(folder) / f"out.{fmt}")])
+                    for _ in range(1 if quick else 3)]
+            cpu = sorted(r[1] for r in runs)[len(runs) // 2]
+            wall = sorted(r[0] for r in runs)[len(runs) // 2]
+            out.append((f"drift, 500 raters x 40 rounds x 5 cases ({count:,} rows), --format {fmt}, whole process",
+                        f"{cpu:.2f} s CPU ({wall:.2f} s wall)", f"<= {TARGET_SECONDS:g} s", cpu <= TARGET_SECONDS))
+    return out
+
+
 def main() -> None:
     parser = argparse.ArgumentParser()
     parser.add_argument("--raters", type=int, default=500)

@@ -45,6 +45,8 @@ _INT8 = re.compile(r"^0o[0-7]+$")
 _INT16 = re.compile(r"^0x[0-9a-fA-F]+$")
 _FLOAT = re.compile(r"^[-+]?(?:\.[0-9]+|(?:0|[1-9][0-9]*)(?:\.[0-9]*)?)(?:[eE][-+]?[0-9]+)?$")
 _SPECIAL_FLOAT = re.compile(r"^(?:[-+]?\.(?:inf|Inf|INF)|\.(?:nan|NaN|NAN))$")
+# The first characters any of the patterns above can start with.
+_MAY_BE_TYPED = frozenset("~nNtTfF0123456789+-.")
 
 # An anchor property (&name) follows a separator or a flow indicator; '&' inside words or
 # followed by a space ("R&D", "Q & A") is text. A false match only costs the expansion check.
@@ -325,6 +327,8 @@ class _Converter:
         return float(typed) if tag.endswith("float") else typed
 
     def typed_plain(self, node: yaml.ScalarNode, value: str) -> Any:
+        if value and value[0] not in _MAY_BE_TYPED:
+            return value  # no pattern below can match: most plan values are text
         if _NULL.match(value):
             return None
         if _TRUE.match(value):
