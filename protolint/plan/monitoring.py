@@ -25,7 +25,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import date, timedelta
 
-from protolint.plan.model import Plan, RaterPool
+from protolint.plan.model import Plan, RaterPool, per_plan
 from protolint.plan.timeline import add_months, endpoints_first_assessment, pool_sites, study_window
 
 __all__ = [
@@ -58,6 +58,7 @@ class PoolSiteSpan:
     last_rating: date
 
 
+@per_plan
 def pool_spans(plan: Plan, pool: RaterPool) -> tuple[PoolSiteSpan, ...]:
     """The rating span of ``pool`` at each site it serves (one span for a central pool)."""
     endpoints = [endpoint for endpoint in plan.endpoints if endpoint.rater_pool == pool.id]
@@ -93,11 +94,17 @@ def rounds_between(pool: str, site: str, start: date, end: date, interval_weeks:
 
 def monitoring_rounds(plan: Plan, pool: RaterPool) -> dict[str, tuple[MonitoringRound, ...]]:
     """Rounds of ``pool`` keyed by site id (``CENTRAL`` for a central pool), in site order."""
+    return dict(_rounds_by_site(plan, pool))  # a new dict each time: the memoised rounds stay as they are
+
+
+@per_plan
+def _rounds_by_site(plan: Plan, pool: RaterPool) -> tuple[tuple[str, tuple[MonitoringRound, ...]], ...]:
+    # Several rules, the checklist and the calendar ask for the same pool's rounds.
     interval = pool.monitoring.interval_weeks if pool.monitoring else None
     if not interval:
-        return {}
-    return {span.site: rounds_between(pool.id, span.site, span.first_rating, span.last_rating, interval)
-            for span in pool_spans(plan, pool)}
+        return ()
+    return tuple((span.site, rounds_between(pool.id, span.site, span.first_rating, span.last_rating, interval))
+                 for span in pool_spans(plan, pool))
 
 
 def rounds_while_rating(rounds: tuple[MonitoringRound, ...]) -> tuple[MonitoringRound, ...]:
