@@ -302,12 +302,10 @@ def rows(quick: bool = False) -> list[Row]:
 
 
 def format_table(table: list[Row]) -> str:
-    header = ("measure", "result", "target", "met")
-    cells = [header] + [r.cells() for r in table]
-    widths = [max(len(c[i]) for c in cells) for i in range(4)]
-    lines = [" | ".join(c[i].ljust(widths[i]) for i in range(4)).rstrip() for c in cells]
-    lines.insert(1, "-|-".join("-" * w for w in widths))
-    return "\n".join(lines)
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
+    from _table import format_table as layout
+
+    return layout([r.cells() for r in table])
 
 
 def main() -> int:

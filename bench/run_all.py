@@ -28,6 +28,9 @@ from typing import Any, Iterable
 
 BENCH = Path(__file__).resolve().parent
 sys.path.insert(0, str(BENCH.parent))
+sys.path.insert(0, str(BENCH))
+
+from _table import format_table  # noqa: E402  (after the path is set)
 
 # The order: check, then the statistics, the analyses, then the documents; any other
 # module with rows() follows in name order.
@@ -82,15 +85,6 @@ def collect(paths: Iterable[Path], quick: bool) -> tuple[list[Cells], list[str]]
             table.append((f"{path.name}: could not measure", last[:120], "-", "NO"))
         print(f"  {path.name}: {time.perf_counter() - started:.0f} s", file=sys.stderr, flush=True)
     return table, without
-
-
-def format_table(rows: list[Cells]) -> str:
-    header: Cells = ("measure", "result", "target", "met")
-    every = [header, *rows]
-    widths = [max(len(row[i]) for row in every) for i in range(4)]
-    lines = [" | ".join(row[i].ljust(widths[i]) for i in range(4)).rstrip() for row in every]
-    lines.insert(1, "-|-".join("-" * width for width in widths))
-    return "\n".join(lines)
 
 
 def main() -> int:
