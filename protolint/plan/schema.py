@@ -7,11 +7,11 @@ Two validators, one answer. Most plans a CI job checks are valid, so every plan 
 screened by ``jsonschema_rs`` (compiled, draft 2020-12), which only says valid or not; a plan it
 passes has no schema findings. Only a plan it rejects goes through ``jsonschema``, whose errors
 carry the instance paths our located messages are made from, so every message is the one the
-located path has always given. The screen may be stricter than ``jsonschema`` (its regular
-expressions end at the end of the text, not before a final line break), never looser: every
-``format`` the schema uses is checked by the same rule as ``jsonschema``'s format checker
-(``date`` here, the others by asking that checker itself), and data the screen cannot take
-(an integer beyond 64 bits) goes the located way. ``tests/plan/test_schema_screen.py`` holds
+located path has always given. The screen may be stricter than ``jsonschema``, never
+looser: every ``format`` the schema uses is checked by the same rule as ``jsonschema``'s format
+checker (``date`` here, the others by asking that checker itself), every ``pattern`` by the
+same regular expressions as the located path (:func:`pattern_regex`), and data the screen cannot
+take goes the located way. ``tests/plan/test_schema_screen.py`` holds
 both validators to the same verdict.
 """
 
