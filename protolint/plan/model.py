@@ -481,8 +481,9 @@ class Plan:
 
     @cached_property
     def _indexes(self) -> dict[str, dict[str, Any]]:
-        sections = {"instruments": self.instruments, "endpoints": self.endpoints,
-                    "rater_pools": self.rater_pools, "visits": self.schedule.visits}
+        sections: dict[str, tuple[Any, ...]] = {
+            "instruments": self.instruments, "endpoints": self.endpoints,
+            "rater_pools": self.rater_pools, "visits": self.schedule.visits}
         indexes: dict[str, dict[str, Any]] = {}
         for name, items in sections.items():
             index: dict[str, Any] = {}

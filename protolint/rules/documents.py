@@ -128,7 +128,7 @@ def _unfinished_texts(node: Any, label: tuple[str, ...],
     One pass over the typed plan that only builds a path for a value that is reported: this
     rule reads every text of the plan, so it is the one whose cost grows fastest with its size.
     """
-    for name in _text_fields(type(node)):
+    for name in _text_fields(node.__class__):
         value = getattr(node, name)
         if isinstance(value, str):
             why = _unfinished(value)
@@ -140,10 +140,10 @@ def _unfinished_texts(node: Any, label: tuple[str, ...],
                     why = _unfinished(item)
                     if why is not None:
                         found.append((node.path + (name, index), label + (name,), item, why))
-                elif _text_fields(type(item)):
+                elif _text_fields(item.__class__):
                     item_name = getattr(item, "id", None) or getattr(item, "kind", None)
                     _unfinished_texts(item, label + (name, str(item_name) if item_name else f"#{index + 1}"), found)
-        elif _text_fields(type(value)):
+        elif _text_fields(value.__class__):
             _unfinished_texts(value, label + (name,), found)
 
 
