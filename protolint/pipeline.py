@@ -59,7 +59,11 @@ def check_files(paths: Iterable[str | os.PathLike[str]], policy: PolicyArg = Non
                 unreadable.append(error)
         if unreadable:
             raise InputErrors(unreadable)
-        return result_of((check_source(source, chosen, as_of) for source in sources), chosen, as_of)
+        result = result_of((check_source(source, chosen, as_of) for source in sources), chosen, as_of)
+        # Freed now, by reference counting: otherwise the collector's first pass once it is back
+        # on would scan every plan's tree (0.4 ms a plan).
+        sources.clear()
+    return result
 
 
 @contextmanager
