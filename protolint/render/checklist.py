@@ -5,10 +5,12 @@ rules count and the calendar exports. Each round's form has one row for every ra
 plan's roster lists for that pool at that site; without a roster, numbered blank rows, as many
 as the pool's ``raters_per_site`` (or :data:`DEFAULT_BLANK_ROWS`), for the site to fill in.
 
-The printed form is a monospace grid (:class:`FormGrid`): every row is one line of text,
-padded to fixed column widths, and the ruling comes from the round block's background and
-underlines. A table with a cell per field costs WeasyPrint about five times as much per page,
-and a two-year weekly schedule at thirty sites is a thousand pages of rows.
+The printed form is a grid of lines (:class:`FormGrid`): every row is one line of text whose
+cells are reached by tab stops one column apart, and the ruling comes from the rows' background
+(column rules) and underlines (row rules). WeasyPrint spends about five times as long per page
+on a table with a cell per field (0.2 s against 0.04 s a page, measured on the stress plan of
+``bench/bench_checklist.py``), and a two-year weekly schedule at thirty sites with ten raters
+each is 31,200 rows on a thousand pages.
 
 The checklist refuses, with a message located at the plan number that multiplies its rows,
 a plan whose checklist would exceed :data:`MAX_FORM_ROWS` rows, before any row is made.
@@ -46,38 +48,43 @@ CENTRAL_NAME = "Central rating"
 
 @dataclass(frozen=True)
 class FormGrid:
-    """Column widths, in characters of the monospace form, and the lines they make."""
+    """The round form's grid: equal columns, each ``column_px`` wide, reached by tab stops.
 
-    widths: tuple[int, ...] = (14, 20, 20, 10, 16, 16)
+    Every cell is written as a space, its text and tabs to the next column, and the tab size
+    is the column width, so a line is a few glyphs however wide the form: WeasyPrint's cost
+    of a line grows with its glyphs. Widths are whole CSS pixels because that is how the tab
+    stops are set; text longer than :attr:`cell_characters` is cut, with an ellipsis.
+    """
+
+    columns: int = 6
+    column_px: int = 102
+    cell_characters: int = 14
+    """At 8 pt DejaVu Sans Mono (0.602 em a character) 14 characters and a space fit 102 px."""
 
     @property
-    def characters(self) -> int:
-        return sum(self.widths)
+    def width_px(self) -> int:
+        return self.columns * self.column_px
+
+    @property
+    def edges_px(self) -> tuple[int, ...]:
+        """Where the column rules fall, in CSS pixels from the left edge."""
+        return tuple(k * self.column_px for k in range(1, self.columns))
 
     def line(self, *cells: str) -> str:
-        """One form line: each cell after a space, cut to its column (an ellipsis marks a cut)."""
-        parts = []
-        for cell, width in zip(cells + ("",) * (len(self.widths) - len(cells)), self.widths):
-            room = width - 2
-            text = cell if len(cell) <= room else cell[:room - 1] + "…"
-            parts.append(" " + text.ljust(width - 1))
-        return "".join(parts)
+        """One form line: each cell after a space, cut to its column, then a tab to the next."""
+        padded = cells + ("",) * (self.columns - len(cells))
+        return "".join((" " + self.cut(cell) if cell else "") + "\t" for cell in padded[:self.columns])
 
-    @property
-    def edges(self) -> tuple[int, ...]:
-        """Where the column rules fall, in characters from the left edge."""
-        edges, x = [], 0
-        for width in self.widths[:-1]:
-            x += width
-            edges.append(x)
-        return tuple(edges)
+    def cut(self, text: str) -> str:
+        room = self.cell_characters
+        return text if len(text) <= room else text[:room - 1] + "…"
 
 
 GRID = FormGrid()
 
-RESULT_BOXES = "☐ within ☐ beyond"
-HEADINGS = (("Rater", "What was checked", "Result against", "Rater's", "Reviewer's", "Comment"),
-            ("", "(sample, cases)", "drift threshold", "initials", "initials, date", ""))
+RESULT_BOXES = "☐ yes  ☐ no"
+HEADINGS = (("Rater", "What was", "Within drift", "Rater's", "Reviewer's", "Comment"),
+            ("", "checked", "threshold?", "initials", "initials, date", ""))
 
 
 @dataclass(frozen=True)
@@ -248,14 +255,16 @@ def _refuse_oversized(loaded: LoadedPlan, plan: Plan, site: str | None) -> None:
             if site is not None and span.site != site:
                 continue
             raters = len(_rostered(plan, pool, span.site)) or _blank_rows(pool)
-            rounds = (span.last_rating - span.first_rating).days // (7 * weeks) + 1
+            # As rounds_between counts them: the regular rounds, and a close-out round when the
+            # last one falls before the last rating day (or there is none).
+            rounds = max(1, -(-(span.last_rating - span.first_rating).days // (7 * weeks)))
             rows += rounds * (raters + 1)
         total += rows
         if largest is None or rows > largest[0]:
             largest = (rows, pool.monitoring.path + ("interval_weeks",))  # type: ignore[union-attr]
     if total > MAX_FORM_ROWS and largest is not None:
         raise _located(loaded, largest[1],
-                       f"the monitoring checklist would have about {total:,} rows (rater rows and round headings), "
+                       f"the monitoring checklist would have {total:,} rows (rater rows and round headings), "
                        f"more than the {MAX_FORM_ROWS:,} it is made for; "
                        f"{'' if site else 'render one site at a time (--site), or '}check the monitoring interval and the rating period")
 

@@ -38,7 +38,7 @@ def test_markdown_to_a_file(cli, demo_plan, tmp_path: Path) -> None:
     assert text.startswith("# Rater monitoring checklist: NDS-HD-301")
     # S01, SITE-DERM: first rating 2026-09-01 + 52 weeks; one row for the rostered rater R-S01-A.
     assert "#### Round 1: due 2027-08-31, reviews ratings from 2026-09-01\n" in text
-    assert "| R-S01-A | | [ ] within [ ] beyond | | | |" in text
+    assert "| R-S01-A | | [ ] yes [ ] no | | | |" in text
 
 
 def test_pdf_default_name_beside_the_current_folder(cli, tmp_path: Path, monkeypatch) -> None:
