@@ -245,16 +245,18 @@ def _refuse_oversized(loaded: LoadedPlan, plan: Plan, site: str | None) -> None:
         weeks = pool.monitoring.interval_weeks if pool.monitoring else None
         if not weeks:
             continue
-        if not any(r.pool == pool.id for r in plan.roster) and pool.raters_per_site and pool.raters_per_site > MAX_BLANK_ROWS:
-            raise _located(loaded, pool.path + ("raters_per_site",),
-                           f"the monitoring checklist prints a blank row per rater in every round, and "
-                           f"raters_per_site {pool.raters_per_site:g} is more than the {MAX_BLANK_ROWS} rows a round "
-                           f"may have; list the pool's raters in the roster, or state a smaller number")
         rows = 0
         for span in pool_spans(plan, pool):
             if site is not None and span.site != site:
                 continue
-            raters = len(_rostered(plan, pool, span.site)) or _blank_rows(pool)
+            raters = len(_rostered(plan, pool, span.site))
+            if not raters and pool.raters_per_site and pool.raters_per_site > MAX_BLANK_ROWS:
+                raise _located(loaded, pool.path + ("raters_per_site",),
+                               f"the monitoring checklist prints a blank row per rater in every round where the "
+                               f"roster lists none, and raters_per_site {pool.raters_per_site:g} is more than the "
+                               f"{MAX_BLANK_ROWS} rows a round may have; list the pool's raters in the roster, "
+                               f"or state a smaller number")
+            raters = raters or _blank_rows(pool)
             # As rounds_between counts them: the regular rounds, and a close-out round when the
             # last one falls before the last rating day (or there is none).
             rounds = max(1, -(-(span.last_rating - span.first_rating).days // (7 * weeks)))

@@ -187,3 +187,15 @@ def test_a_checklist_beyond_its_row_limit_is_refused_at_the_monitoring_interval(
     with pytest.raises(LocatedError) as caught:
         checklist_context(loaded(text), site="S1")
     assert "would have 60 rows" in caught.value.reason and "--site" not in caught.value.reason
+
+
+def test_absurd_raters_per_site_is_refused_where_a_site_has_no_roster_entries() -> None:
+    from protolint.errors import LocatedError
+
+    text = plan_text(roster={"S1": 2}, extra="    raters_per_site: 1e18\n")
+    with pytest.raises(LocatedError) as caught:
+        checklist_context(loaded(text))
+    assert caught.value.line == text.splitlines().index("    raters_per_site: 1e18") + 1
+    assert "where the roster lists none" in caught.value.reason
+    # S1's copy has rostered rows only, so it is made.
+    assert checklist_context(loaded(text), site="S1").round_count == 12
