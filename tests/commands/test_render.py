@@ -36,7 +36,9 @@ def test_markdown_to_a_file(cli, demo_plan, tmp_path: Path) -> None:
     assert f"wrote checklist (markdown) to {target}" in result.stderr
     text = target.read_text(encoding="utf-8")
     assert text.startswith("# Rater monitoring checklist: NDS-HD-301")
-    assert "| 1 | 2027-08-31 | 2026-09-01 |" in text  # S01, SITE-DERM: first rating + 52 weeks
+    # S01, SITE-DERM: first rating 2026-09-01 + 52 weeks; one row for the rostered rater R-S01-A.
+    assert "#### Round 1: due 2027-08-31, reviews ratings from 2026-09-01\n" in text
+    assert "| R-S01-A | | [ ] yes [ ] no | | | |" in text
 
 
 def test_pdf_default_name_beside_the_current_folder(cli, tmp_path: Path, monkeypatch) -> None:
@@ -92,15 +94,17 @@ def test_checklist_for_one_site(cli, demo_plan, tmp_path: Path, monkeypatch) -> 
     monkeypatch.chdir(tmp_path)
     whole = cli("render", "checklist", demo_plan, "--format", "markdown").stdout
     one = cli("render", "checklist", demo_plan, "--format", "markdown", "--site", "S02").stdout
-    assert "(S01)" in whole and "(S02)" in whole
-    assert "(S02)" in one and "(S01)" not in one and "Central rating" not in one
+    assert "(S01, NO)" in whole and "(S02, DE)" in whole
+    assert "(S02, DE)" in one and "(S01, NO)" not in one and "Central rating" not in one
     assert "This copy covers site S02 only." in one
+    assert one.startswith("# Rater monitoring checklist: NDS-HD-301 — site S02, Lindenhof Dermatology Centre (fictional)\n")
     result = cli("render", "checklist", demo_plan, "--site", "S02")
     assert result.exit_code == 0 and (tmp_path / "plan-checklist-S02.pdf").read_bytes().startswith(b"%PDF")
 
 
 @pytest.mark.parametrize("args, words", [
-    (("render", "checklist", "--site", "S99"), "choose one of: S01, S02, S03, S04, central"),
+    (("render", "checklist", "--site", "S99"), "unknown site 'S99'"),
+    (("render", "checklist", "--site", "S99"), "the plan's sites are: S01, S02, S03, S04, central"),
     (("render", "binder", "--site", "S01"), "checklist only"),
 ])
 def test_bad_site_choice_exits_2(cli_process, demo_plan, tmp_path: Path, args, words) -> None:

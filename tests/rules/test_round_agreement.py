@@ -1,12 +1,12 @@
 """The monitoring rules count the rounds the rendered checklist prints, on every plan we have.
 
 For every rule case plan and the demo, the checklist is rendered (Markdown, through the public
-``render`` API) and its round rows are counted per pool and site. Then:
+``render`` API) and its round forms are counted per pool and site. Then:
 
 * ``monitoring/no-rounds-in-rating-period`` fires for a pool exactly when some site's table
-  holds no regular round (only the close-out row), and its ``rounds`` fact equals the rows
+  holds no regular round (only the close-out form), and its ``rounds`` fact equals the rounds
   printed for that pool at the sites it names;
-* ``monitoring/interval-exceeds-drift-window`` reports as ``rounds`` the fewest regular rows
+* ``monitoring/interval-exceeds-drift-window`` reports as ``rounds`` the fewest regular rounds
   of any site's table for that pool.
 
 Both sides take their rounds from ``protolint.plan.monitoring``; the test guards against either
@@ -30,9 +30,9 @@ from tests.rules._cases import build_case, case_files, run_text
 RULE_IDS = [r.meta.id for r in all_rules()]
 DEMO = Path(__file__).resolve().parents[2] / "demo_protocol" / "plan.yaml"
 
-_SITE = re.compile(r"^## .*?(?: \((?P<id>[^()]+)\))?$")
-_POOL = re.compile(r"^### (?P<label>.+) — every \d+ weeks$")
-_ROW = re.compile(r"^\| (?P<number>\d+)(?P<close> \(close-out\))? \| \d{4}-\d\d-\d\d \|")
+_SITE = re.compile(r"^## .*?(?: \((?P<id>[^(),]+)(?:, [^()]+)?\))?$")
+_POOL = re.compile(r"^### (?P<label>.+) — every (?:week|\d+ weeks)$")
+_ROUND = re.compile(r"^#### Round (?P<number>\d+)(?P<close> \(close-out\))?: due \d{4}-\d\d-\d\d,")
 
 
 def _plans() -> list[tuple[str, str]]:
@@ -45,7 +45,7 @@ PLANS = _plans()
 
 
 def checklist_rows(text: str) -> dict[tuple[str, str], list[bool]]:
-    """(pool label, site id) -> one entry per printed round row, True for a close-out row."""
+    """(pool label, site id) -> one entry per printed round form, True for a close-out round."""
     loaded = load_plan(load_source(text.encode("utf-8"), "plan.yaml"))
     markdown = render("checklist", "markdown", loaded)
     rows: dict[tuple[str, str], list[bool]] = defaultdict(list)
@@ -55,7 +55,7 @@ def checklist_rows(text: str) -> dict[tuple[str, str], list[bool]]:
             site = match["id"] or "central"
         elif (match := _POOL.match(line)) is not None:
             pool = match["label"]
-        elif (match := _ROW.match(line)) is not None:
+        elif (match := _ROUND.match(line)) is not None:
             rows[(pool, site)].append(bool(match["close"]))
     return rows
 
