@@ -42,7 +42,8 @@ Cells = tuple[str, str, str, str]
 def modules(only: set[str] | None = None) -> list[Path]:
     def rank(path: Path) -> tuple[int, str]:
         name = path.stem[len("bench_"):]
-        first = next((i for i, prefix in enumerate(ORDER) if name.startswith(prefix)), len(ORDER))
+        # "checklist" is not "check": a prefix counts only as a whole word of the name.
+        first = next((i for i, prefix in enumerate(ORDER) if name == prefix or name.startswith(prefix + "_")), len(ORDER))
         return first, name
 
     found = sorted(BENCH.glob("bench_*.py"), key=rank)
