@@ -17,7 +17,7 @@ from protolint.findings import Finding
 from protolint.plan.model import Plan, build_plan
 from protolint.plan.references import reference_findings
 from protolint.plan.schema import schema_findings
-from protolint.plan.source import LoadedSource, load_source
+from protolint.plan.source import LoadedSource, load_source, read_limited
 
 __all__ = ["LoadedPlan", "Plan", "load_plan", "read_plan_file", "read_source"]
 
@@ -33,22 +33,11 @@ class LoadedPlan:
 def read_source(file: str) -> LoadedSource:
     """Read a plan file from disk (or ``-`` for standard input) into a located tree.
 
-    A file that cannot be read at all is reported at line 0, column 0 (the file as a whole),
-    so every exit-2 message has the ``file:line:column: message`` form.
+    A file that cannot be read at all, or is larger than the limit (enforced while reading), is
+    reported at line 0, column 0 (the file as a whole), so every exit-2 message has the
+    ``file:line:column: message`` form.
     """
-    try:
-        if file == "-":
-            import sys
-
-            raw = sys.stdin.buffer.read()
-        else:
-            raw = FilePath(file).read_bytes()
-    except FileNotFoundError:
-        raise LocatedError(file, 0, 0, "no such file") from None
-    except IsADirectoryError:
-        raise LocatedError(file, 0, 0, "is a folder, not a plan file") from None
-    except OSError as error:
-        raise LocatedError(file, 0, 0, f"cannot read: {error.strerror}") from None
+    raw = read_limited(file)
     return load_source(raw, file)
 
 

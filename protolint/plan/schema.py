@@ -42,11 +42,50 @@ _TYPE_WORDS = {
 
 @lru_cache(maxsize=None)
 def validator_for(schema_name: str):  # noqa: ANN201 - jsonschema's validator class
-    from jsonschema import Draft202012Validator
+    from jsonschema import Draft202012Validator, validators
 
     schema = _inline_local_refs(load_schema(schema_name))
+    # JSON Schema patterns are ECMA-262 regular expressions, which editors run as written; the
+    # Python engine differs where it matters to us, so `pattern` is checked the ECMA way.
+    validator_class = validators.extend(Draft202012Validator, {"pattern": _ecma_pattern})
     # Formats are only annotations in draft 2020-12 unless a checker is passed explicitly.
-    return Draft202012Validator(schema, format_checker=Draft202012Validator.FORMAT_CHECKER)
+    return validator_class(schema, format_checker=Draft202012Validator.FORMAT_CHECKER)
+
+
+def _ecma_pattern(validator: Any, pattern: str, instance: Any, schema: dict[str, Any]) -> Any:
+    from jsonschema.exceptions import ValidationError
+
+    if isinstance(instance, str) and not pattern_regex(pattern).search(instance):
+        yield ValidationError(f"{instance!r} does not match {pattern!r}")
+
+
+@lru_cache(maxsize=None)
+def ecma_regex(pattern: str) -> re.Pattern[str]:
+    r"""Compile a JSON Schema (ECMA-262) pattern so that Python matches what an editor matches.
+
+    Two differences matter: Python's ``$`` also matches before a final line break, so
+    ``"S01\n"`` would pass ``^[A-Z0-9]+$`` and be a second id beside ``S01`` (in ECMA-262 ``$``
+    is the end of the text); and Python's ``\d`` and ``\w`` match non-ASCII digits and letters.
+    Each ``$`` outside a character class becomes ``\Z``, and the pattern is ASCII-only.
+    """
+    out: list[str] = []
+    in_class = False
+    index = 0
+    while index < len(pattern):
+        char = pattern[index]
+        if char == "\\" and index + 1 < len(pattern):
+            out.append(pattern[index:index + 2])
+            index += 2
+            continue
+        if char == "[" and not in_class:
+            in_class = True
+        elif char == "]" and in_class:
+            in_class = False
+        elif char == "$" and not in_class:
+            char = r"\Z"
+        out.append(char)
+        index += 1
+    return re.compile("".join(out), re.ASCII)
 
 
 def _inline_local_refs(schema: dict[str, Any]) -> dict[str, Any]:
@@ -79,7 +118,20 @@ def schema_findings(source: LoadedSource, schema_name: str = PLAN_SCHEMA) -> lis
     """One located finding per schema violation (in the validator's order; results sort them)."""
     if passes_screen(source.data, schema_name):
         return []
-    return [_finding(error, source) for error in validator_for(schema_name).iter_errors(source.data)]
+    return [_finding(error, source) for error in validator_for(schema_name).iter_errors(source.data)
+            if not _date_reported_twice(error)]
+
+
+def _date_reported_twice(error: Any) -> bool:
+    # A date with both a wrong form and an implausible year ("9999-99-99") fails `format` and
+    # `pattern`; the format finding says what is wrong, the range one would repeat it.
+    if error.validator != "pattern" or error.schema.get("format") != "date":
+        return False
+    try:
+        date.fromisoformat(error.instance)
+    except (TypeError, ValueError):
+        return True
+    return False
 
 
 def passes_screen(data: Any, schema_name: str = PLAN_SCHEMA) -> bool:
@@ -101,11 +153,9 @@ def _screen_for(schema_name: str):  # noqa: ANN202 - jsonschema_rs's validator c
 
 
 def pattern_regex(pattern: str) -> re.Pattern[str]:
-    """How a schema ``pattern`` is matched (``search``, as jsonschema's ``pattern`` keyword does)."""
-    return _compiled(pattern)
-
-
-_compiled = lru_cache(maxsize=None)(re.compile)
+    """How a schema ``pattern`` is matched (``search``), by the screen and the located path
+    alike: with ECMA-262 semantics (:func:`ecma_regex`)."""
+    return ecma_regex(pattern)
 
 
 class _ScreenPattern:
@@ -240,6 +290,9 @@ def _describe(error: Any, path: Path) -> tuple[str, str, Path, bool]:
         return "schema/out-of-range", f"{_name(path)} is longer than {schema['maxLength']} characters", path, False
     if kind == "uniqueItems":
         return "schema/value-not-allowed", f"{_name(path)} lists the same entry more than once", path, False
+    if kind == "pattern" and schema.get("format") == "date":
+        return ("schema/invalid-date", f"{_name(path)} is {_show(instance)}; plan dates lie between 1900-01-01 "
+                "and 2199-12-31", path, False)
     if kind == "pattern":
         purpose = schema.get("description", "")
         return "schema/invalid-form", f"{_name(path)} is {_show(instance)}, which is not of the expected form. {purpose}".strip(), path, False

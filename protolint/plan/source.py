@@ -11,12 +11,18 @@ PyYAML) and converts it itself, so that:
   ``!!python/...`` is never constructed;
 * duplicate keys are an error at the second occurrence;
 * input size, nesting depth and alias expansion are bounded, so a "billion laughs" document
-  is refused quickly instead of being expanded.
+  is refused quickly instead of being expanded; files are read with the size limit enforced
+  while reading (:func:`read_limited`), so ``/dev/zero`` or a sparse 3 GB file costs at most
+  the limit;
+* numbers stay numbers a plan can hold: an integer beyond ±(2**53 - 1) (the largest a JSON
+  reader or a float holds exactly) and a float that overflows to infinity (``1e999``) or
+  underflows to zero are refused at the place they are written.
 """
 
 from __future__ import annotations
 
 import hashlib
+import math
 import re
 from dataclasses import dataclass
 from typing import Any
@@ -30,6 +36,13 @@ MAX_BYTES = 2 * 1024 * 1024
 MAX_DEPTH = 64
 MAX_NODES = 200_000
 """Nodes visited while converting, counting every expansion of an alias."""
+MAX_EXPANDED_CHARS = 2 * MAX_BYTES
+"""Characters of scalar text once every alias is expanded. A plan without aliases is at most
+MAX_BYTES long; aliases may repeat values, but not turn a small file into one that documents
+print gigabytes from (one long string aliased 150,000 times stays under MAX_NODES)."""
+MAX_INTEGER = 2**53 - 1
+"""The largest integer a plan may write: every JSON reader and every float holds it exactly."""
+_MAX_DIGITS = 30  # longer digit strings are refused before int() is asked to convert them
 
 _PLAIN = "tag:protolint:plain"
 _CORE = "tag:yaml.org,2002:"
@@ -125,10 +138,40 @@ def _plain_tag_loader() -> type:
 _LOADER = _plain_tag_loader()
 
 
+def read_limited(file: str, what: str = "plan", limit: int = MAX_BYTES) -> bytes:
+    """The bytes of ``file`` (``-``: standard input), refusing more than ``limit`` while reading.
+
+    At most ``limit + 1`` bytes are ever read, so an endless device or a huge sparse file costs
+    no more memory than a plan at the limit. Errors are located at the whole file (line 0).
+    """
+    import sys
+
+    try:
+        if file == "-":
+            raw = sys.stdin.buffer.read(limit + 1)
+        else:
+            with open(file, "rb") as stream:
+                raw = stream.read(limit + 1)
+    except FileNotFoundError:
+        # A plan is the obvious input; another kind of file is named, so the reader knows which.
+        raise LocatedError(file, 0, 0, "no such file" if what == "plan" else f"cannot read the {what} file: no such file") from None
+    except IsADirectoryError:
+        raise LocatedError(file, 0, 0, f"is a folder, not a {what} file") from None
+    except OSError as error:
+        raise LocatedError(file, 0, 0, f"cannot read the {what} file: {error.strerror or error}") from None
+    if len(raw) > limit:
+        raise LocatedError(file, 0, 0, f"the file is larger than {_size_words(limit)}, the limit for a {what} file")
+    return raw
+
+
+def _size_words(size: int) -> str:
+    return f"{size // (1024 * 1024)} MiB" if size % (1024 * 1024) == 0 else f"{size} bytes"
+
+
 def load_source(raw: bytes, file: str) -> LoadedSource:
     """Parse plan bytes. Raises :class:`LocatedError` for anything that is not a safe YAML mapping."""
     if len(raw) > MAX_BYTES:
-        raise LocatedError(file, 1, 1, f"file is {len(raw)} bytes; plans are limited to {MAX_BYTES} bytes")
+        raise LocatedError(file, 0, 0, f"the file is larger than {_size_words(MAX_BYTES)}, the limit for a plan file")
     text = _decode(raw, file)
     try:
         root = yaml.compose(text, Loader=_LOADER)
@@ -218,15 +261,16 @@ def _yaml_error(error: yaml.MarkedYAMLError, text: str, file: str) -> LocatedErr
 
 
 def _check_expansion(root: yaml.Node, file: str) -> None:
-    """Refuse documents whose aliases would expand past MAX_NODES, before expanding anything.
+    """Refuse documents whose aliases would expand past MAX_NODES values or MAX_EXPANDED_CHARS
+    characters of text, before expanding anything.
 
     Sizes are memoised per node, so this costs one visit per distinct node even for a
     "billion laughs" document.
     """
-    sizes: dict[int, int] = {}
+    sizes: dict[int, tuple[int, int]] = {}
     in_progress: set[int] = set()
 
-    def size(node: yaml.Node, depth: int) -> int:
+    def size(node: yaml.Node, depth: int) -> tuple[int, int]:
         known = sizes.get(id(node))
         if known is not None:
             return known
@@ -237,17 +281,24 @@ def _check_expansion(root: yaml.Node, file: str) -> None:
             raise LocatedError(file, node.start_mark.line + 1, node.start_mark.column + 1,
                                f"nesting is deeper than {MAX_DEPTH} levels")
         in_progress.add(id(node))
-        total = 1
-        if isinstance(node, yaml.SequenceNode):
-            total += sum(size(child, depth + 1) for child in node.value)
-        elif isinstance(node, yaml.MappingNode):
-            total += sum(size(k, depth + 1) + size(v, depth + 1) for k, v in node.value)
+        nodes, chars = 1, 0
+        if isinstance(node, yaml.ScalarNode):
+            chars = len(node.value)
+        else:
+            children = node.value if isinstance(node, yaml.SequenceNode) else [n for pair in node.value for n in pair]
+            for child in children:
+                child_nodes, child_chars = size(child, depth + 1)
+                nodes += child_nodes
+                chars += child_chars
         in_progress.discard(id(node))
-        if total > MAX_NODES:
-            raise LocatedError(file, node.start_mark.line + 1, node.start_mark.column + 1,
-                               f"the document expands to more than {MAX_NODES} values (an alias repeated too often?)")
-        sizes[id(node)] = total
-        return total
+        where = (file, node.start_mark.line + 1, node.start_mark.column + 1)
+        if nodes > MAX_NODES:
+            raise LocatedError(*where, f"the document expands to more than {MAX_NODES} values (an alias repeated too often?)")
+        if chars > MAX_EXPANDED_CHARS:
+            raise LocatedError(*where, f"the document expands to more than {MAX_EXPANDED_CHARS} characters of text "
+                                       "(an alias of a long value repeated too often?)")
+        sizes[id(node)] = (nodes, chars)
+        return nodes, chars
 
     size(root, 0)
 
@@ -280,20 +331,23 @@ class _Converter:
         if id(node) in ancestors:
             raise self.fail(node, "an alias refers to a node that contains it (a cycle)")
         if node.tag not in _ALLOWED_TAGS and node.tag != _PLAIN:
-            raise self.fail(node, f"the tag {node.tag!r} is not allowed; plans use plain YAML values only")
+            raise self.fail(node, f"the tag {_short_tag(node.tag)!r} is not allowed; plans use plain YAML values only")
         if isinstance(node, yaml.ScalarNode):
+            if node.tag in (_CORE + "seq", _CORE + "map"):
+                kind = "a list" if node.tag.endswith("seq") else "a mapping"
+                raise self.fail(node, f"the tag {_short_tag(node.tag)!r} asks for {kind}, but a single value is written here")
             return self.scalar(node)
         inner = ancestors + (id(node),)
         if isinstance(node, yaml.SequenceNode):
             if node.tag != _CORE + "seq":
-                raise self.fail(node, f"the tag {node.tag!r} does not fit a list")
+                raise self.fail(node, f"the tag {_short_tag(node.tag)!r} does not fit a list")
             items = []
             for index, child in enumerate(node.value):
                 self.record(path + (index,), None, child)
                 items.append(self.convert(child, path + (index,), depth + 1, inner))
             return items
         if node.tag != _CORE + "map":
-            raise self.fail(node, f"the tag {node.tag!r} does not fit a mapping")
+            raise self.fail(node, f"the tag {_short_tag(node.tag)!r} does not fit a mapping")
         mapping: dict[str, Any] = {}
         first_seen: dict[str, yaml.Node] = {}
         for key_node, value_node in node.value:
@@ -323,7 +377,7 @@ class _Converter:
         kinds = expected[tag[len(_CORE):]]
         fits = isinstance(typed, kinds) and not (isinstance(typed, bool) and bool not in kinds)
         if not fits:
-            raise self.fail(node, f"{value!r} is not a valid {tag[len(_CORE):]}")
+            raise self.fail(node, f"{_shown(value)} is not a valid {tag[len(_CORE):]}")
         return float(typed) if tag.endswith("float") else typed
 
     def typed_plain(self, node: yaml.ScalarNode, value: str) -> Any:
@@ -335,14 +389,38 @@ class _Converter:
             return True
         if _FALSE.match(value):
             return False
-        if _INT10.match(value):
-            return int(value)
-        if _INT8.match(value):
-            return int(value[2:], 8)
-        if _INT16.match(value):
-            return int(value[2:], 16)
+        for pattern, start, base in ((_INT10, 0, 10), (_INT8, 2, 8), (_INT16, 2, 16)):
+            if pattern.match(value):
+                return self.integer(node, value, start, base)
         if _FLOAT.match(value):
-            return float(value)
+            return self.real(node, value)
         if _SPECIAL_FLOAT.match(value):
             raise self.fail(node, f"{value!r} (infinity or not-a-number) is not allowed in a plan")
         return value
+
+    def integer(self, node: yaml.ScalarNode, value: str, start: int, base: int) -> int:
+        # Checked on the digits first: int() refuses more than 4,300 decimal digits, and a
+        # huge hexadecimal number would only overflow later, deep inside a rule.
+        digits = value[start:].lstrip("+-").lstrip("0")
+        number = int(value[start:], base) if len(digits) <= _MAX_DIGITS else None
+        if number is None or abs(number) > MAX_INTEGER:
+            raise self.fail(node, f"the number {_shown(value)} is too large; plans hold whole numbers "
+                                  f"up to {MAX_INTEGER:,}")
+        return number
+
+    def real(self, node: yaml.ScalarNode, value: str) -> float:
+        number = float(value)
+        if math.isinf(number):
+            raise self.fail(node, f"the number {_shown(value)} is too large to be held (it would be infinity)")
+        if number == 0 and any(ch in "123456789" for ch in value.split("e")[0].split("E")[0]):
+            raise self.fail(node, f"the number {_shown(value)} is too small to be held (it would be 0)")
+        return number
+
+
+def _short_tag(tag: str) -> str:
+    return "!!" + tag[len(_CORE):] if tag.startswith(_CORE) else tag
+
+
+def _shown(value: str) -> str:
+    """A written value quoted for a message, shortened when long (a 5,000-digit number)."""
+    return repr(value if len(value) <= 40 else value[:20] + "…" + value[-8:])

@@ -3,22 +3,32 @@
 A policy can switch rules off, change their severity and change their thresholds. It is
 YAML, read with the same safe loader as plans and checked against its own schema; any
 problem in it is an input error (exit 2) located at the offending line.
+
+The ``schema/*`` checks are not the policy's to change: a plan the schema rejects cannot be
+checked at all (no rule runs on it), so switching a schema check off, or lowering it to a
+warning, would let an unchecked plan pass with "no findings". A policy that tries is refused
+at the offending key; :class:`Policy` also ignores such settings when built in code.
 """
 
 from __future__ import annotations
 
 import hashlib
 from dataclasses import dataclass, field
-from pathlib import Path as FilePath
 from typing import Any, Mapping
 
 from protolint.errors import LocatedError
 from protolint.findings import PolicyRecord, Severity
 from protolint.plan.schema import schema_findings
-from protolint.plan.source import load_source
+from protolint.plan.source import load_source, read_limited
 from protolint.rules.registry import RuleMeta
 
 POLICY_SCHEMA = "policy.schema.json"
+FIXED_FAMILIES = ("schema/",)
+"""Rule families whose checks a policy can neither switch off nor change in severity."""
+
+
+def is_fixed(rule_id: str) -> bool:
+    return rule_id.startswith(FIXED_FAMILIES)
 
 
 @dataclass(frozen=True)
@@ -32,10 +42,10 @@ class Policy:
     """SHA-256 of the policy file's bytes."""
 
     def enabled(self, rule_id: str) -> bool:
-        return rule_id not in self.disabled
+        return is_fixed(rule_id) or rule_id not in self.disabled
 
     def severity(self, meta: RuleMeta) -> Severity:
-        return self.severities.get(meta.id, meta.severity)
+        return meta.severity if is_fixed(meta.id) else self.severities.get(meta.id, meta.severity)
 
     def thresholds_for(self, meta: RuleMeta) -> dict[str, float]:
         values = {threshold.name: threshold.default for threshold in meta.thresholds}
@@ -65,10 +75,7 @@ DEFAULT_POLICY = Policy()
 
 def read_policy(file: str, rules: Mapping[str, RuleMeta]) -> Policy:
     """Read and check a policy file against the registered rules."""
-    try:
-        raw = FilePath(file).read_bytes()
-    except OSError as error:
-        raise LocatedError(file, 0, 0, f"cannot read the policy file: {error.strerror}") from None
+    raw = read_limited(file, "policy")
     source = load_source(raw, file)
     problems = schema_findings(source, POLICY_SCHEMA)
     if problems:
@@ -83,6 +90,12 @@ def read_policy(file: str, rules: Mapping[str, RuleMeta]) -> Policy:
         meta = rules.get(rule_id)
         if meta is None:
             raise LocatedError(file, where.line, where.column, f"policy names rule {rule_id!r}, which does not exist")
+        for key in ("enabled", "severity"):
+            if is_fixed(rule_id) and key in settings and (key == "severity" or settings[key] is not True):
+                spot = source.source_map.locate(("rules", rule_id, key), at_key=True)
+                raise LocatedError(file, spot.line, spot.column,
+                                   f"policy cannot change {key!r} of {rule_id}: a plan the schema rejects cannot be "
+                                   "checked, so schema checks always run and are always errors")
         if settings.get("enabled") is False:
             disabled.add(rule_id)
         if "severity" in settings:
