@@ -13,7 +13,8 @@ from dataclasses import dataclass
 from pathlib import Path as FilePath
 
 from protolint.errors import LocatedError
-from protolint.findings import Finding
+from protolint.findings import Finding, Severity, finding_at
+from protolint.plan.limits import size_problems
 from protolint.plan.model import Plan, build_plan
 from protolint.plan.references import reference_findings
 from protolint.plan.schema import schema_findings
@@ -45,12 +46,19 @@ def load_plan(source: LoadedSource) -> LoadedPlan:
     """Validate ``source`` and build the typed plan when nothing is wrong with it.
 
     Reference problems are looked for even when the schema finds problems, so one run shows
-    both; the typed plan is built only from data with neither.
+    both; the typed plan is built only from data with neither, and handed on only when what it
+    multiplies (monitoring rounds, sign-off rows, calendar events) stays within
+    :mod:`protolint.plan.limits`.
     """
     problems = (*schema_findings(source), *reference_findings(source))
     if problems:
         return LoadedPlan(source, tuple(sorted(problems, key=Finding.sort_key)), None)
-    return LoadedPlan(source, (), build_plan(source.data))
+    plan = build_plan(source.data)
+    oversized = tuple(finding_at(source, problem.path, "schema/too-large", Severity.ERROR, problem.message)
+                      for problem in size_problems(plan))
+    if oversized:
+        return LoadedPlan(source, oversized, None)
+    return LoadedPlan(source, (), plan)
 
 
 def read_plan_file(file: str) -> LoadedPlan:

@@ -45,9 +45,11 @@ def document_date(report: DesignReport) -> tuple[date, str]:
     """The plan's date, else SOURCE_DATE_EPOCH, else the pilot file's modification date: never the clock."""
     if report.plan is not None:
         return report.plan.plan_date, "plan date"
-    epoch = os.environ.get("SOURCE_DATE_EPOCH")
-    if epoch and epoch.isdigit():
-        return datetime.fromtimestamp(int(epoch), tz=timezone.utc).date(), "SOURCE_DATE_EPOCH"
+    from protolint.render.document import source_date_epoch
+
+    epoch = source_date_epoch()
+    if epoch is not None:
+        return epoch, "SOURCE_DATE_EPOCH"
     stamp = os.stat(report.file).st_mtime
     return datetime.fromtimestamp(stamp, tz=timezone.utc).date(), "modification date of the data file"
 

@@ -14,7 +14,7 @@ from dataclasses import dataclass, replace
 from datetime import date, datetime, timezone
 from importlib import metadata
 from pathlib import PurePath
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Mapping
 
 from protolint import CAUTION, __version__
 from protolint.findings import Finding, PlanResult, PolicyRecord, Severity
@@ -202,15 +202,34 @@ def document_date(plan: Plan, environ: dict[str, str] | os._Environ[str] | None 
     """
     if as_of is not None:
         return as_of, "--as-of date"
+    epoch = source_date_epoch(environ)
+    if epoch is not None:
+        return epoch, "SOURCE_DATE_EPOCH"
+    return plan.plan_date, "plan date"
+
+
+_LAST_EPOCH_DAY = date(2199, 12, 31)  # the plan schema's last date: documents stay in the same range
+
+
+def source_date_epoch(environ: Mapping[str, str] | None = None) -> date | None:
+    """The day SOURCE_DATE_EPOCH names (reproducible builds), or None when it is not set.
+
+    The value must be a whole number of seconds since 1970-01-01 UTC (the specification's
+    form) naming a day up to 2199-12-31; anything else is an error of the one-line kind, never
+    an overflow deep inside the date library.
+    """
+    from protolint.errors import ProtolintError
+
     environ = os.environ if environ is None else environ
     raw = environ.get("SOURCE_DATE_EPOCH")
-    if raw:
-        try:
-            stamp = int(raw)
-        except ValueError:
-            raise ValueError(f"SOURCE_DATE_EPOCH must be a whole number of seconds, got {raw!r}") from None
-        return datetime.fromtimestamp(stamp, tz=timezone.utc).date(), "SOURCE_DATE_EPOCH"
-    return plan.plan_date, "plan date"
+    if not raw:
+        return None
+    text = raw.strip()
+    limit = int(datetime(2199, 12, 31, 23, 59, 59, tzinfo=timezone.utc).timestamp())
+    if not (text.isascii() and text.isdigit()) or len(text) > 12 or int(text) > limit:
+        raise ProtolintError(f"SOURCE_DATE_EPOCH is {raw[:40]!r}; it must be a whole number of seconds since "
+                             f"1970-01-01 UTC, up to {limit} ({_LAST_EPOCH_DAY.isoformat()})")
+    return datetime.fromtimestamp(int(text), tz=timezone.utc).date()
 
 
 def document_control(loaded: LoadedPlan, kind: str, paper: str, check: DocumentCheck | None = None) -> DocumentControl:

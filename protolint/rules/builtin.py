@@ -64,6 +64,16 @@ register_builtin("schema/invalid-form", "error", _SCHEMA_SOURCE, "A value not wr
 
     **Fails**: `id: "LSC 8"`.
     """)
+register_builtin("schema/too-large", "error", "common practice (a document must stay printable)", "The plan asks documents or the calendar to list more than they can hold.", """
+    Some numbers multiply: sites × raters per site is the number of sign-off rows in the binder,
+    sites × rating weeks ÷ the monitoring interval the number of monitoring rounds. Each number
+    has its own bound in the schema; this check bounds their product (100,000 monitoring rounds,
+    50,000 sign-off rows, 200,000 calendar events) before any document is built.
+
+    **Passes**: 30 sites with weekly monitoring for two years (about 3,100 rounds).
+
+    **Fails**: 2,000 sites with a round every week for ten years (over a million rounds).
+    """)
 register_builtin("schema/duplicate-id", "error", _SCHEMA_SOURCE, "Two entries of one list share an id.", """
     Ids are how endpoints, pools, SOPs and waivers refer to each other; a repeated id makes
     every such reference ambiguous.
