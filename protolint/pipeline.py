@@ -9,7 +9,9 @@ functions, so a plan gets the same findings whichever way it is checked:
   its plan in memory);
 * :func:`check_text` checks plan text (tests, editors, other tools);
 * :func:`check_plan` checks a plan already loaded (``render`` and ``calendar``, which load
-  the plan once for the document and its check).
+  the plan once for the document and its check);
+* :func:`failure_of` describes a run that could not check its plans (exit 2), for the
+  machine-readable formats, which then say so instead of reporting nothing.
 
 Every result records the policy it was checked under (:func:`policy_record`) and the as-of
 date, so a report or a document filed years later says how it was checked.
@@ -22,12 +24,14 @@ from __future__ import annotations
 import gc
 import os
 from contextlib import contextmanager
+from dataclasses import dataclass
 from datetime import date
 from typing import TYPE_CHECKING, Iterable, Iterator, Union
 
 from protolint.findings import CheckResult, PlanResult, PolicyRecord
 
 if TYPE_CHECKING:
+    from protolint.errors import ProtolintError
     from protolint.plan import LoadedPlan
     from protolint.plan.source import LoadedSource
     from protolint.rules.policy import Policy
@@ -41,16 +45,19 @@ def check_files(paths: Iterable[str | os.PathLike[str]], policy: PolicyArg = Non
                 as_of: date | None = None) -> CheckResult:
     """Check every plan file in ``paths``.
 
-    Every file is read before any rule runs. Files that cannot be read, or are not YAML, raise
-    :class:`~protolint.errors.InputErrors` with one located error per file (the command prints
-    those lines and nothing else, and exits 2); a policy file with a problem raises its
-    :class:`~protolint.errors.LocatedError`. ``as_of`` defaults to each plan's own date.
+    Every file is read before any rule runs. Files that cannot be read, or are not YAML, and a
+    policy file with a problem raise :class:`~protolint.errors.InputErrors` with one located
+    error per file, the policy's first (the command prints those lines, a failure report in the
+    formats tools read, and exits 2). ``as_of`` defaults to each plan's own date.
     """
     from protolint.errors import InputErrors, LocatedError
     from protolint.plan import read_source
 
-    chosen = resolve_policy(policy)
     sources, unreadable = [], []
+    try:
+        chosen = resolve_policy(policy)
+    except LocatedError as error:  # still read the plans, so one run names every bad input
+        unreadable.append(error)
     with collector_paused():
         for path in paths:
             try:
@@ -149,3 +156,56 @@ def rule_metas(ids: Iterable[str] | None = None) -> list[RuleMeta]:
 def rules_run(result: CheckResult) -> list[RuleMeta]:
     """Metadata of every rule that ran on at least one plan of ``result``."""
     return rule_metas({rule_id for plan in result.plans for rule_id in plan.rules_run})
+
+
+@dataclass(frozen=True)
+class InputProblem:
+    """Why one input (a plan or the policy) could not be read: ``file:line:column: message``,
+    line 0 for the file as a whole."""
+
+    file: str
+    line: int
+    column: int
+    message: str
+
+    def text(self) -> str:
+        return f"{self.file}:{self.line}:{self.column}: {self.message}"
+
+
+@dataclass(frozen=True)
+class CheckFailure:
+    """A check that could not be done (exit 2): which plans were asked for and what stopped it.
+
+    No rule ran on any plan: every plan is read before any rule runs, and one unreadable input
+    stops the run. Reports made from this say the run failed (SARIF ``executionSuccessful:
+    false``, a JSON ``error`` per plan, a JUnit ``<error>``), so no upload shows a plan as clean.
+    """
+
+    plans: tuple[str, ...]
+    problems: tuple[InputProblem, ...]
+    tool_version: str
+
+    def problem_of(self, file: str) -> InputProblem | None:
+        return next((problem for problem in self.problems if problem.file == file), None)
+
+    @property
+    def other_problems(self) -> tuple[InputProblem, ...]:
+        """Problems of inputs that are not plans (the policy file, the environment)."""
+        return tuple(problem for problem in self.problems if problem.file not in self.plans)
+
+
+NOT_CHECKED = "not checked: another input of the same run could not be read"
+
+
+def failure_of(paths: Iterable[str | os.PathLike[str]], error: ProtolintError) -> CheckFailure:
+    """The :class:`CheckFailure` of a run of ``check_files(paths, ...)`` that raised ``error``."""
+    from protolint import __version__
+    from protolint.errors import InputErrors, LocatedError
+
+    located = error.errors if isinstance(error, InputErrors) else (error,)
+    problems = tuple(
+        InputProblem(item.file, item.line, item.column, item.reason) if isinstance(item, LocatedError)
+        else InputProblem("", 0, 0, item.format_message())
+        for item in located
+    )
+    return CheckFailure(tuple(os.fspath(path) for path in paths), problems, __version__)

@@ -10,6 +10,7 @@ import click
 
 from protolint.commands._shared import check_options
 from protolint.commands.base import ProtolintCommand
+from protolint.errors import ProtolintError
 from protolint.findings import Severity
 from protolint.report import FORMATS
 
@@ -28,7 +29,9 @@ def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | 
     """Check measurement plans against the schema and the rules.
 
     Exit code 0 when nothing at or above --fail-on was found, 1 when something was,
-    2 when a plan or the policy could not be read.
+    2 when a plan or the policy could not be read: then json, sarif, junit and github still
+    write a report (to --output or standard output) that says the check failed, and every
+    format prints the located lines on standard error.
 
     \b
     Examples:
@@ -39,9 +42,14 @@ def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | 
     from protolint.pipeline import check_files, rules_run
     from protolint.report import render_report
 
-    # An unreadable plan or policy raises LocatedError before anything is printed: on exit 2
-    # the one located message is all the output.
-    result = check_files(plans, policy, as_of)
+    # An unreadable plan or policy raises before any rule runs; the located lines go to stderr
+    # and the exit code is 2. A format a tool reads still gets a report, one that says the
+    # check failed (_report_failure), so an upload never shows an unchecked plan as clean.
+    try:
+        result = check_files(plans, policy, as_of)
+    except ProtolintError as error:
+        _report_failure(fmt, output, plans, error)
+        raise
     if color is None:
         color = output is None and sys.stdout.isatty() and not os.environ.get("NO_COLOR")
     report = render_report(fmt, result, rules_run(result), color=color)
@@ -57,3 +65,21 @@ def command(plans: tuple[str, ...], fmt: str, output: str | None, policy: str | 
         level = Severity.parse(fail_on)
         if any(f.severity >= level and not f.waived for plan in result.plans for f in plan.findings):
             sys.exit(1)
+
+
+def _report_failure(fmt: str, output: str | None, plans: tuple[str, ...], error: ProtolintError) -> None:
+    """Write the failure report of a format a tool reads; people's formats get none (an existing
+    --output file is then left as it was). Written quietly: on exit 2 standard error carries only
+    the located lines."""
+    from protolint.pipeline import failure_of
+    from protolint.report import render_failure_report
+
+    report = render_failure_report(fmt, failure_of(plans, error))
+    if report is None:
+        return
+    if output and output != "-":
+        from protolint.atomic import write_atomic
+
+        write_atomic(output, report)
+    else:
+        click.echo(report, nl=False)

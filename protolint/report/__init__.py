@@ -12,6 +12,7 @@ from typing import TYPE_CHECKING, Sequence
 
 if TYPE_CHECKING:  # imported for annotations only, keeps start-up light
     from protolint.findings import CheckResult
+    from protolint.pipeline import CheckFailure
     from protolint.rules.registry import RuleMeta
 
 FORMATS: tuple[str, ...] = ("text", "json", "sarif", "junit", "markdown", "html", "github")
@@ -44,4 +45,16 @@ def render_report(
     return module.render(result, rules, color=color)
 
 
-__all__ = ["FORMATS", "render_report"]
+FAILURE_FORMATS: tuple[str, ...] = ("json", "sarif", "junit", "github")
+"""Formats a tool reads: when the plans could not be checked (exit 2) they still get a report,
+which says so. The formats people read get only the located lines on standard error."""
+
+
+def render_failure_report(fmt: str, failure: CheckFailure) -> str | None:
+    """The report of a run that could not check its plans, or None for a format people read."""
+    if fmt not in FAILURE_FORMATS:
+        return None
+    return importlib.import_module(_FORMATTERS[fmt]).render_failure(failure)
+
+
+__all__ = ["FAILURE_FORMATS", "FORMATS", "render_failure_report", "render_report"]

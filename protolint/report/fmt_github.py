@@ -17,6 +17,7 @@ from protolint.report._common import check_basis, counts_phrase, forward_slashes
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult
+    from protolint.pipeline import CheckFailure
     from protolint.rules.registry import RuleMeta
 
 _LEVEL = {"error": "error", "warning": "warning", "note": "notice"}
@@ -48,4 +49,19 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
     lines.append(f"protolint: {escape_data(counts_phrase(result.counts()))}")
     lines.append(f"protolint: {escape_data(check_basis(result))}")
     lines.append(f"protolint: caution: {escape_data(CAUTION)}")
+    return "\n".join(lines) + "\n"
+
+
+def render_failure(failure: CheckFailure) -> str:
+    """A run that could not check its plans: an error annotation at each input that failed."""
+    lines = []
+    for problem in failure.problems:
+        properties = [f"file={escape_property(forward_slashes(problem.file))}"] if problem.file else []
+        if problem.line >= 1:
+            properties.append(f"line={problem.line}")
+            if problem.column >= 1:
+                properties.append(f"col={problem.column}")
+        properties.append("title=protolint could not check this file")
+        lines.append(f"::error {','.join(properties)}::{escape_data(problem.message)}")
+    lines.append("protolint: the plans could not be checked; no rule ran")
     return "\n".join(lines) + "\n"

@@ -2,10 +2,13 @@
 
 The contract keys come first in a fixed order and are never renamed or dropped; the extra
 keys (``end_line``, ``end_column``, ``waiver_reason``, ``fingerprint``, ``as_of``,
-``rules_not_run``, ``not_run_reason``, the top-level ``policy`` and ``as_of``, ``caution``)
-follow them. ``policy`` is ``{"file", "sha256", "disabled", "changed"}`` (``file`` "default"
-for the built-in policy); the top-level ``as_of`` is the date every plan was checked as of,
-``as_of_basis`` says whether it was given (``--as-of``) or is the plans' own ``plan_date``. Undefined numbers are ``null``.
+``rules_not_run``, ``not_run_reason``, the top-level ``policy`` and ``as_of``, ``caution``,
+``execution_successful``, ``errors``) follow them. ``policy`` is ``{"file", "sha256",
+"disabled", "changed"}`` (``file`` "default" for the built-in policy); the top-level ``as_of``
+is the date every plan was checked as of, ``as_of_basis`` says whether it was given
+(``--as-of``) or is the plans' own ``plan_date``. Undefined numbers are ``null``. When the
+plans could not be checked (exit 2) the report is :func:`failure_document`:
+``execution_successful`` false, the error in each plan's entry, ``policy`` and ``as_of`` null.
 """
 
 from __future__ import annotations
@@ -18,6 +21,7 @@ from protolint.report._common import fingerprints, json_safe
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding, PlanResult
+    from protolint.pipeline import CheckFailure, InputProblem
     from protolint.rules.registry import RuleMeta
 
 
@@ -60,7 +64,45 @@ def as_document(result: CheckResult) -> dict[str, Any]:
         "as_of": result.as_of_in_force,
         "as_of_basis": "given" if result.as_of else "plan_date",
         "caution": CAUTION,
+        "execution_successful": True,
+        "errors": [],
     }
+
+
+def _problem(problem: InputProblem) -> dict[str, Any]:
+    return {"file": problem.file, "line": problem.line, "column": problem.column, "message": problem.message}
+
+
+def failure_document(failure: CheckFailure) -> dict[str, Any]:
+    """A run that could not check its plans (exit 2): each plan's entry carries its ``error``
+    (or says it was not checked because another input failed), ``errors`` lists every input
+    that failed, and ``execution_successful`` is false. Nothing was checked, so nothing is
+    counted in the summary."""
+    from protolint.pipeline import NOT_CHECKED
+
+    plans = []
+    for file in failure.plans:
+        problem = failure.problem_of(file)
+        plans.append({
+            "file": file, "sha256": None, "as_of": None, "findings": [], "rules_not_run": [],
+            "not_run_reason": problem.message if problem else NOT_CHECKED,
+            "error": _problem(problem) if problem else None,
+        })
+    return {
+        "tool": {"name": "protolint", "version": failure.tool_version},
+        "plans": plans,
+        "summary": {"error": 0, "warning": 0, "note": 0, "waived": 0},
+        "policy": None,
+        "as_of": None,
+        "as_of_basis": None,
+        "caution": CAUTION,
+        "execution_successful": False,
+        "errors": [_problem(problem) for problem in failure.problems],
+    }
+
+
+def render_failure(failure: CheckFailure) -> str:
+    return json.dumps(failure_document(failure), ensure_ascii=False, indent=2) + "\n"
 
 
 def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:

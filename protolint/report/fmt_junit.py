@@ -17,7 +17,10 @@ Mapping (JUnit has no official specification; this targets the common ``junit-10
 
 Counts: ``tests`` counts test cases, ``failures`` the cases with at least one ``<failure>``
 (the JUnit meaning: failed tests, not failure elements), ``skipped`` the skipped cases;
-``errors`` is always 0 because an input that cannot be checked never reaches a report.
+``errors`` is 0 in a report of checked plans. A run that could not check its plans (exit 2) is
+reported by :func:`render_failure`: a suite per plan whose one case, ``protolint/read-plan``,
+holds an ``<error>`` with the located message (or is skipped, when another input failed), and
+a suite for a policy file that could not be read.
 """
 
 from __future__ import annotations
@@ -38,6 +41,7 @@ from protolint.report.fmt_text import finding_line
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding, PlanResult, PolicyRecord
+    from protolint.pipeline import CheckFailure
     from protolint.rules.registry import RuleMeta
 
 
@@ -137,3 +141,39 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
     ET.indent(root, space="  ")
     body = ET.tostring(root, encoding="unicode")
     return '<?xml version="1.0" encoding="UTF-8"?>\n' + body + "\n"
+
+
+READ_CASE = "protolint/read-plan"
+
+
+def _failure_suite(file: str, problem: object | None, version: str, case_name: str = READ_CASE) -> ET.Element:
+    from protolint.pipeline import NOT_CHECKED
+
+    suite = ET.Element("testsuite", {"name": xml_safe(file)})
+    properties = ET.SubElement(suite, "properties")
+    for name, value in (("protolint_version", version), ("caution", CAUTION)):
+        ET.SubElement(properties, "property", {"name": name, "value": xml_safe(value)})
+    case = ET.SubElement(suite, "testcase", {"classname": xml_safe(file), "name": case_name})
+    if problem is not None:
+        error = ET.SubElement(case, "error", {"type": "input-error", "message": xml_safe(problem.message)})  # type: ignore[attr-defined]
+        error.text = xml_safe(problem.text())  # type: ignore[attr-defined]
+    else:
+        ET.SubElement(case, "skipped", {"message": xml_safe(NOT_CHECKED)})
+    counts = {"tests": 1, "failures": 0, "errors": int(problem is not None), "skipped": int(problem is None)}
+    for key, count in counts.items():
+        suite.set(key, str(count))
+    suite.set("file", xml_safe(file))
+    return suite
+
+
+def render_failure(failure: CheckFailure) -> str:
+    root = ET.Element("testsuites", {"name": "protolint"})
+    suites = [_failure_suite(file, failure.problem_of(file), failure.tool_version) for file in failure.plans]
+    suites += [_failure_suite(problem.file or "protolint", problem, failure.tool_version, "protolint/read-input")
+               for problem in failure.other_problems]
+    for suite in suites:
+        root.append(suite)
+    for key in ("tests", "failures", "errors"):
+        root.set(key, str(sum(int(suite.get(key, "0")) for suite in suites)))
+    ET.indent(root, space="  ")
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"

@@ -10,6 +10,10 @@ Choices worth knowing:
 * Waived findings stay in the log with an external suppression carrying the waiver reason,
   so viewers show them as dismissed instead of losing the audit trail.
 * Columns count Unicode code points (the loader's columns), hence ``columnKind``.
+* A run that could not check its plans (exit 2) is still a SARIF log (:func:`render_failure`):
+  ``executionSuccessful: false``, exit code 2, and one error notification per input that could
+  not be read, located at that file (and line, when known), with no results. A code-scanning
+  upload then shows a failed analysis, never a clean plan.
 """
 
 from __future__ import annotations
@@ -29,6 +33,7 @@ from protolint.report._common import (
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding
+    from protolint.pipeline import CheckFailure
     from protolint.rules.registry import RuleMeta
 
 SARIF_SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
@@ -219,3 +224,59 @@ def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any
 def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:
     document = as_document(result, rules)
     return json.dumps(document, ensure_ascii=False, indent=2, allow_nan=False) + "\n"
+
+
+INPUT_ERROR = "protolint/input-error"
+INPUT_ERROR_TEXT = "An input (a plan or the policy) could not be read, so no plan was checked."
+
+
+def _failure_notification(problem: Any, artifact_index: dict[str, int]) -> dict[str, Any]:
+    notification: dict[str, Any] = {"level": "error", "message": {"text": problem.message},
+                                    "descriptor": {"id": INPUT_ERROR, "index": 0}}
+    if problem.file:
+        uri = artifact_uri(problem.file)
+        physical: dict[str, Any] = {"artifactLocation": {"uri": uri, "index": artifact_index[uri]}}
+        if problem.line >= 1:
+            physical["region"] = {"startLine": problem.line, **({"startColumn": problem.column} if problem.column >= 1 else {})}
+        notification["locations"] = [{"physicalLocation": physical}]
+    return notification
+
+
+def failure_document(failure: CheckFailure) -> dict[str, Any]:
+    """The SARIF log of a run that could not check its plans."""
+    from protolint.pipeline import NOT_CHECKED
+
+    artifacts: list[dict[str, Any]] = []
+    artifact_index: dict[str, int] = {}
+    for file in (*failure.plans, *(p.file for p in failure.problems if p.file)):
+        uri = artifact_uri(file)
+        if uri not in artifact_index:
+            artifact_index[uri] = len(artifacts)
+            artifacts.append({"location": {"uri": uri}})
+    notifications = [_failure_notification(problem, artifact_index) for problem in failure.problems]
+    for file in failure.plans:
+        if failure.problem_of(file) is None:
+            uri = artifact_uri(file)
+            notifications.append({"level": "note", "message": {"text": NOT_CHECKED},
+                                  "locations": [{"physicalLocation": {"artifactLocation": {"uri": uri, "index": artifact_index[uri]}}}]})
+    run: dict[str, Any] = {
+        "tool": {"driver": {"name": "protolint", "version": failure.tool_version,
+                            "semanticVersion": failure.tool_version, "rules": [],
+                            "notifications": [{"id": INPUT_ERROR, "shortDescription": {"text": INPUT_ERROR_TEXT}}]}},
+        "automationDetails": {"id": AUTOMATION_ID},
+        "invocations": [{
+            "executionSuccessful": False,
+            "exitCode": 2,
+            "exitCodeDescription": "the input could not be checked",
+            "toolExecutionNotifications": notifications,
+        }],
+        "artifacts": artifacts,
+        "columnKind": "unicodeCodePoints",
+        "results": [],
+        "properties": {"caution": CAUTION},
+    }
+    return {"$schema": SARIF_SCHEMA, "version": "2.1.0", "runs": [run]}
+
+
+def render_failure(failure: CheckFailure) -> str:
+    return json.dumps(failure_document(failure), ensure_ascii=False, indent=2) + "\n"

@@ -148,14 +148,19 @@ def test_missing_file_exits_2(cli_process, tmp_path):
     assert result.returncode == 2 and "no such file" in result.stderr and "Traceback" not in result.stderr
 
 
-@pytest.mark.parametrize("fmt", ["text", "json", "sarif"])
-def test_exit_2_prints_the_located_message_and_nothing_else(cli_process, tmp_path, fmt):
-    # A file that does not exist is reported at line 0, column 0: the file as a whole.
+@pytest.mark.parametrize("fmt", ["text", "markdown", "html", "json", "sarif"])
+def test_exit_2_prints_the_located_message_on_stderr_and_nothing_else_there(cli_process, tmp_path, fmt):
+    # A file that does not exist is reported at line 0, column 0: the file as a whole. The
+    # formats people read print nothing else; the formats tools read get a failure report
+    # (tests/report/test_report_failure.py).
     missing = tmp_path / "nonexist.yaml"
     result = cli_process("check", missing, "--format", fmt)
     assert result.returncode == 2
-    assert result.stdout == ""
     assert result.stderr == f"{missing}:0:0: no such file\n"
+    if fmt in ("text", "markdown", "html"):
+        assert result.stdout == ""
+    else:
+        assert '"executionSuccessful": false' in result.stdout or '"execution_successful": false' in result.stdout
 
 
 def test_a_missing_policy_file_is_located_like_a_missing_plan(cli_process, tmp_path, starter_text):
@@ -195,12 +200,12 @@ def test_bad_option_exits_2(cli_process, tmp_path, starter_text):
 
 
 def test_an_unreadable_plan_stops_the_check_with_only_its_located_message(cli_process, tmp_path, starter_text):
-    # Exit 2 means the input could not be checked: no report (not even of the other plans) that
-    # a CI step could mistake for a result, and one `file:line:column:` line per unreadable file.
+    # Exit 2 means the input could not be checked: no result (not even of the other plans) that
+    # a CI step could mistake for one, and one `file:line:column:` line per unreadable file.
     good = write(tmp_path, "good.yaml", starter_text)
     bad = write(tmp_path, "bad.yaml", BAD_YAML)
     missing = tmp_path / "missing.yaml"
-    result = cli_process("check", bad, good, missing, "--format", "json")
+    result = cli_process("check", bad, good, missing, "--format", "text")
     assert result.returncode == 2
     assert result.stdout == ""
     lines = result.stderr.splitlines()

@@ -107,6 +107,11 @@ def test_policy_changes_a_threshold(starter_text, tmp_path):
     (f"format_version: 1\nrules:\n  {RULE}: {{severity: fatal}}\n", 3, "expected one of"),
     ("rules: {}\n", 1, "format_version"),
     ("format_version: 1\nrules:\n  a: b: c\n", 3, "not valid YAML"),
+    # The schema checks are not the policy's: a plan the schema rejects is not checked at all.
+    ("format_version: 1\nrules:\n  schema/unknown-key: {enabled: false}\n", 3, "cannot change 'enabled' of schema/unknown-key"),
+    ("format_version: 1\nrules:\n  schema/out-of-range:\n    severity: note\n", 4, "always errors"),
+    ("format_version: 1\nrules:\n  schema/too-large: {enabled: true, severity: error}\n", 3, "cannot change 'severity'"),
+    ("format_version: 1\nrules:\n  sop/review-overdue: !!seq x\n", 3, "asks for a list"),
 ])
 def test_bad_policy_is_a_located_input_error(tmp_path, text, line, words):
     with pytest.raises(LocatedError) as caught:
@@ -185,3 +190,18 @@ def test_rule_ids_are_well_formed_and_unique():
     ids = rule_ids()
     assert len(ids) == len(set(ids))
     assert all(RULE_ID.match(i) for i in ids)
+
+
+def test_a_policy_built_in_code_cannot_silence_the_schema_either(starter_text):
+    from protolint.pipeline import check_text
+    from protolint.rules.policy import Policy
+
+    text = starter_text.replace("  power: 0.8\n", "  power: high\n")
+    silenced = Policy(disabled=frozenset({"schema/wrong-type"}), severities={"schema/wrong-type": Severity.NOTE})
+    [finding] = check_text(text, policy=silenced).findings
+    assert finding.rule == "schema/wrong-type" and finding.severity is Severity.ERROR
+
+
+def test_a_policy_may_leave_a_schema_check_enabled(tmp_path):
+    policy = read_policy(policy_file(tmp_path, "format_version: 1\nrules:\n  schema/unknown-key: {enabled: true}\n"), metas())
+    assert policy.enabled("schema/unknown-key")
