@@ -89,7 +89,10 @@ def finding_at(source: LoadedSource, path: tuple[str | int, ...], rule: str, sev
     Schema, reference, rule and waiver findings all come from here, so the line, column and
     pointer of a finding never depend on which step found it.
     """
-    return Finding(rule=rule, severity=severity, message=message, file=source.file,
+    from protolint.errors import one_line
+
+    # One line always: a value quoted from the plan may hold a line break or an escape sequence.
+    return Finding(rule=rule, severity=severity, message=one_line(message), file=source.file,
                    location=source.source_map.locate(path, at_key=at_key), pointer=pointer_from_path(path),
                    facts=dict(facts) if facts else {})
 

@@ -90,12 +90,18 @@ def ratings_averaged(evidence: Evidence) -> int | None:
     return evidence.averaged_over or evidence.raters
 
 
+NEGLIGIBLE_RELIABILITY = 1e-6
+"""Coefficients closer to zero than this count as zero. No study reports one, and the formulas
+divide by the reliability: a value such as 5e-324 would ask for 10**323 raters or overflow."""
+
+
 def single_rating_value(evidence: Evidence) -> float:
     """The reliability of one rating: average forms are stepped down by Spearman-Brown."""
+    value = evidence.value if abs(evidence.value) >= NEGLIGIBLE_RELIABILITY else 0.0
     k = ratings_averaged(evidence)
     if k is None or k <= 1:
-        return evidence.value
-    return single_from_average(evidence.value, k)
+        return value
+    return single_from_average(value, k)
 
 
 def trial_ratings(endpoint: Endpoint) -> int:

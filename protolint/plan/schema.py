@@ -241,6 +241,11 @@ def _describe(error: Any, path: Path) -> tuple[str, str, Path, bool]:
     kind = error.validator
     schema = error.schema
     instance = error.instance
+    if "propertyNames" in error.absolute_schema_path and isinstance(instance, str):
+        # A key that is not of the allowed form: the error is the mapping's, the problem the key's.
+        hint = f" {schema['description']}" if schema.get("description") else ""
+        return ("schema/invalid-form", f"the key {_show(instance)} in {_name(path)} is not of the expected form.{hint}",
+                path + (instance,), True)
     if kind == "required":
         missing = _quoted_key(error.message)
         return "schema/missing-key", f"{_name(path)} is missing the required key {missing!r}", path, True

@@ -71,6 +71,8 @@ _BOMS = {
     b"\xff\xfe": "UTF-16",
     b"\xfe\xff": "UTF-16",
 }
+# Control characters other than tab and line breaks, once escapes in quoted values are decoded.
+_VALUE_CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
 _LONE_CR = re.compile(r"\r(?!\n)")
 _ODD_LINE_BREAKS = {"\u2028": "LINE SEPARATOR", "\u2029": "PARAGRAPH SEPARATOR", "\u0085": "NEXT LINE"}
 
@@ -354,6 +356,10 @@ class _Converter:
             if not isinstance(key_node, yaml.ScalarNode):
                 raise self.fail(key_node, "a key must be a plain word, not a list or mapping")
             key = key_node.value
+            control = _VALUE_CONTROL.search(key)
+            if control:
+                raise self.fail(key_node, f"the key contains the control character U+{ord(control.group(0)):04X} "
+                                          "(written as an escape); remove it")
             if key == "<<" and key_node.tag == _PLAIN:
                 raise self.fail(key_node, "merge keys ('<<') are not supported; write the keys out")
             if key in first_seen:
@@ -367,6 +373,12 @@ class _Converter:
     def scalar(self, node: yaml.ScalarNode) -> Any:
         value = node.value
         tag = node.tag
+        control = _VALUE_CONTROL.search(value)
+        if control:
+            # Written as an escape in a quoted value ("\e[31m", "\x07"): the raw character is
+            # refused by the reader, and the escaped one would reach documents and terminals.
+            raise self.fail(node, f"the value contains the control character U+{ord(control.group(0)):04X} "
+                                  "(written as an escape); remove it")
         if tag == _CORE + "str":
             return value
         if tag == _PLAIN:

@@ -86,7 +86,9 @@ def markdown_inline_html(text: str | None) -> Markup:
 
 _ATX_HEADING = re.compile(r"^ {0,3}#{1,6}[ \t]+", re.MULTILINE)
 _LINK_DESTINATION = re.compile(r"\]\(\s*<?([^)\s>]*)")
-_REFERENCE_DEFINITION = re.compile(r"^( {0,3}\[[^\]]+\]:\s*<?)(\S*)", re.MULTILINE)
+# A link reference definition may also open a list item ("- [x]: url", "1. [x]: url", nested
+# at any depth): CommonMark reads it as a definition there too.
+_REFERENCE_DEFINITION = re.compile(r"^((?:[ \t]*(?:[-*+]|[0-9]{1,9}[.)])(?=[ \t]))*[ \t]*\[[^\]]+\]:\s*<?)(\S*)", re.MULTILINE)
 
 
 def markdown_block(text: str | None) -> str:
