@@ -154,3 +154,37 @@ def test_schema_command_prints_the_schema(cli):
     assert result.exit_code == 0
     assert json.loads(result.stdout)["title"].startswith("protolint measurement plan")
     assert "policy" in json.loads(cli("schema", "--policy").stdout)["title"]
+
+
+# ---------------------------------------------------------------- hardening
+
+def test_patterns_follow_ecma_262_so_a_trailing_line_break_is_no_id():
+    from protolint.plan.schema import ecma_regex
+
+    identifier = ecma_regex("^[A-Za-z0-9][A-Za-z0-9_.-]*$")
+    assert identifier.search("S01") and not identifier.search("S01\n")
+    assert not ecma_regex(r"^\d+$").search("１２")     # \d is ASCII in ECMA-262 without the u flag
+    assert ecma_regex("^[$]+$").search("$$")           # a $ inside a class stays a character
+    assert ecma_regex(r"^a\$$").search("a$")            # an escaped $ stays a character
+
+
+@pytest.mark.parametrize("old, new, words", [
+    ("plan_date: 2027-01-15", "plan_date: 9999-12-31", "plan dates lie between 1900-01-01 and 2199-12-31"),
+    ("plan_date: 2027-01-15", "plan_date: 1899-12-31", "plan dates lie between"),
+    ("  power: 0.8\n", "  power: 1\n", "at most 0.9999"),
+    ("  alpha: 0.05\n", "  alpha: 1e-17\n", "at least 1e-06"),
+])
+def test_plausible_bounds_are_located_schema_findings(starter_text, old, new, words):
+    text = starter_text.replace(old, new, 1)
+    assert text != starter_text
+    found, loaded = problems(text)
+    assert loaded.plan is None
+    [hit] = [f for f in found if words in f.message]
+    assert hit.location.line == line_of(text, new.strip())
+    assert hit.rule in ("schema/invalid-date", "schema/out-of-range")
+
+
+def test_an_impossible_date_is_reported_once(starter_text):
+    text = starter_text.replace("plan_date: 2027-01-15", "plan_date: 9999-99-99", 1)
+    found, _ = problems(text)
+    assert [f.rule for f in found if f.pointer == "/plan_date"] == ["schema/invalid-date"]

@@ -187,3 +187,65 @@ def test_windows_line_endings_keep_line_numbers():
 def test_a_lone_carriage_return_is_refused_so_lines_stay_right():
     error = error_of(b"a: 1\nb: 2\rc: 3\n")
     assert (error.line, error.column) == (2, 5) and "carriage return" in error.reason
+
+
+# ---------------------------------------------------------------- hardening (numbers, tags, size)
+
+@pytest.mark.parametrize("text, words", [
+    ("n: " + "9" * 5000, "is too large; plans hold whole numbers up to 9,007,199,254,740,991"),
+    ("n: 0x" + "f" * 400, "is too large"),
+    ("n: 9007199254740992", "is too large"),
+    ("n: -9007199254740992", "is too large"),
+    ("n: 1e999", "too large to be held (it would be infinity)"),
+    ("n: -1e999", "too large to be held"),
+    ("n: !!float 1e400", "too large to be held"),
+    ("n: 1e-400", "too small to be held (it would be 0)"),
+    ("n: !!seq 0.5", "the tag '!!seq' asks for a list, but a single value is written here"),
+    ("n: !!map text", "the tag '!!map' asks for a mapping"),
+    ('n: "a\\e[31mb"', "control character U+001B (written as an escape)"),
+    ('"k\\x07": 1', "the key contains the control character U+0007"),
+])
+def test_values_a_plan_cannot_hold_are_located_errors(text, words):
+    error = error_of(text + "\n")
+    assert words in error.reason and (error.line, error.column) == (1, 1 if text.startswith('"') else 4)
+
+
+@pytest.mark.parametrize("text, expected", [
+    ("n: 9007199254740991", 2**53 - 1),
+    ("n: 0.0e-5", 0.0),
+    ("n: 1_00", "1_00"),            # YAML 1.2 core: underscores make text, not 100
+    ("n: １２", "１２"),             # full-width digits are text
+    ("n: ١٢", "١٢"),                # so are other scripts' digits
+    ('n: "tab\\there"', "tab\there"),
+])
+def test_numbers_follow_the_core_schema_exactly(text, expected):
+    value = load(text + "\n").data["n"]
+    assert value == expected and type(value) is type(expected)
+
+
+def test_alias_expansion_is_bounded_by_the_text_it_makes():
+    # 150,000 aliases stay under the node limit, but would make 45 GB of text for the documents.
+    text = "long: &s " + "x" * 300_000 + "\nmany: [" + ", ".join(["*s"] * 150_000) + "]\n"
+    started = time.perf_counter()
+    error = error_of(text)
+    assert "characters of text" in error.reason and time.perf_counter() - started < 10
+
+
+def test_small_aliases_are_still_fine():
+    assert load("a: &x [1, 2]\nb: *x\nc: *x\n").data == {"a": [1, 2], "b": [1, 2], "c": [1, 2]}
+
+
+def test_reading_stops_at_the_limit(tmp_path):
+    from protolint.plan.source import read_limited
+
+    sparse = tmp_path / "sparse.yaml"
+    with open(sparse, "wb") as stream:
+        stream.truncate(3 * 1024**3)
+    for path, what in ((sparse, "plan"), ("/dev/zero", "policy")):
+        with pytest.raises(LocatedError) as caught:
+            read_limited(str(path), what)
+        assert (caught.value.line, caught.value.column) == (0, 0)
+        assert f"larger than 2 MiB, the limit for a {what} file" in caught.value.reason
+    exact = tmp_path / "exact.yaml"
+    exact.write_bytes(b"a" * MAX_BYTES)
+    assert len(read_limited(str(exact))) == MAX_BYTES
