@@ -12,7 +12,7 @@ OUT    ?= out
 DEMO   := demo_protocol/plan.yaml
 LOCK   := constraints.txt
 
-.PHONY: demo test bench install clean rules-doc lint constraints
+.PHONY: demo test bench install clean rules-doc lint constraints fuzz
 
 install: $(STAMP)
 
@@ -53,6 +53,19 @@ test: $(STAMP)
 # One table of every speed target (bench/run_all.py collects each bench/bench_*.py's rows()).
 bench: $(STAMP)
 	@$(PY) bench/run_all.py $(BENCH_ARGS)
+
+# Fuzzing (not part of `make test`): every coverage-guided harness in fuzz/ for FUZZ_RUNS
+# iterations, each input limited in memory and time, then the property-based tests with many
+# examples. atheris is installed here only; it is not a test dependency.
+FUZZ_RUNS ?= 20000
+FUZZ_EXAMPLES ?= 500
+fuzz: $(STAMP)
+	$(PY) -m pip install --quiet atheris
+	@for harness in fuzz/fuzz_*.py; do \
+	  echo "== $$harness ($(FUZZ_RUNS) runs)"; \
+	  PYTHONPATH=. $(PY) $$harness -runs=$(FUZZ_RUNS) -max_len=65536 -rss_limit_mb=2048 -timeout=20 -print_final_stats=1 || exit 1; \
+	done
+	PROTOLINT_FUZZ_EXAMPLES=$(FUZZ_EXAMPLES) $(PY) -m pytest -q tests/properties tests/corpus
 
 # Type check and static checks (the dev extra); not part of `make test`.
 lint: $(STAMP)
