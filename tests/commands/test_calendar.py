@@ -76,3 +76,13 @@ def test_a_rostered_expiry_date_is_the_recertification_date(demo_plan, tmp_path:
     unedited = [d.day for d in dated_duties(read_plan_file(str(demo_plan)).plan)
                 if d.kind == "recertification" and "R-S01-A" in d.summary]
     assert unedited == [date(2027, 8, 10)]   # 2026-08-10 + 12 months; rating ends 2028-03-15
+
+
+@pytest.mark.parametrize("value", ["now", "99999999999999999999"])
+def test_a_bad_source_date_epoch_is_one_line_not_a_traceback(cli_process, value):
+    import os
+
+    result = cli_process("calendar", "demo_protocol/plan.yaml", env={**os.environ, "SOURCE_DATE_EPOCH": value})
+    assert result.returncode == 2 and "Traceback" not in result.stderr and result.stdout == ""
+    [line] = result.stderr.splitlines()
+    assert line.startswith("protolint: SOURCE_DATE_EPOCH is ") and "whole number of seconds" in line

@@ -86,8 +86,13 @@ def test_document_date_is_source_date_epoch_or_the_plan_date(demo_loaded) -> Non
     plan = demo_loaded.plan
     assert document_date(plan, {}) == (date(2026, 7, 15), "plan date")
     assert document_date(plan, {"SOURCE_DATE_EPOCH": "1767225600"}) == (date(2026, 1, 1), "SOURCE_DATE_EPOCH")
-    with pytest.raises(ValueError, match="SOURCE_DATE_EPOCH"):
-        document_date(plan, {"SOURCE_DATE_EPOCH": "yesterday"})
+    from protolint.errors import ProtolintError
+
+    # Not a number, negative, or past the plan schema's last year: one line, exit 2, no overflow.
+    for value in ("yesterday", "-5", "1.5", "99999999999999999999", "7258118400", "１２"):
+        with pytest.raises(ProtolintError, match="SOURCE_DATE_EPOCH"):
+            document_date(plan, {"SOURCE_DATE_EPOCH": value})
+    assert document_date(plan, {"SOURCE_DATE_EPOCH": "7258118399"})[0] == date(2199, 12, 31)
 
 
 def test_source_date_epoch_dates_the_document(demo_loaded, monkeypatch) -> None:
