@@ -80,7 +80,7 @@ def failure_document(failure: CheckFailure) -> dict[str, Any]:
     counted in the summary."""
     from protolint.pipeline import NOT_CHECKED
 
-    plans = []
+    plans: list[dict[str, Any]] = []
     for file in failure.plans:
         problem = failure.problem_of(file)
         plans.append({

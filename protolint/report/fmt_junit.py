@@ -41,7 +41,7 @@ from protolint.report.fmt_text import finding_line
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding, PlanResult, PolicyRecord
-    from protolint.pipeline import CheckFailure
+    from protolint.pipeline import CheckFailure, InputProblem
     from protolint.rules.registry import RuleMeta
 
 
@@ -146,7 +146,7 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
 READ_CASE = "protolint/read-plan"
 
 
-def _failure_suite(file: str, problem: object | None, version: str, case_name: str = READ_CASE) -> ET.Element:
+def _failure_suite(file: str, problem: InputProblem | None, version: str, case_name: str = READ_CASE) -> ET.Element:
     from protolint.pipeline import NOT_CHECKED
 
     suite = ET.Element("testsuite", {"name": xml_safe(file)})
@@ -155,8 +155,8 @@ def _failure_suite(file: str, problem: object | None, version: str, case_name: s
         ET.SubElement(properties, "property", {"name": name, "value": xml_safe(value)})
     case = ET.SubElement(suite, "testcase", {"classname": xml_safe(file), "name": case_name})
     if problem is not None:
-        error = ET.SubElement(case, "error", {"type": "input-error", "message": xml_safe(problem.message)})  # type: ignore[attr-defined]
-        error.text = xml_safe(problem.text())  # type: ignore[attr-defined]
+        error = ET.SubElement(case, "error", {"type": "input-error", "message": xml_safe(problem.message)})
+        error.text = xml_safe(problem.text())
     else:
         ET.SubElement(case, "skipped", {"message": xml_safe(NOT_CHECKED)})
     counts = {"tests": 1, "failures": 0, "errors": int(problem is not None), "skipped": int(problem is None)}

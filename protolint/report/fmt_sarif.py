@@ -33,7 +33,7 @@ from protolint.report._common import (
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding
-    from protolint.pipeline import CheckFailure
+    from protolint.pipeline import CheckFailure, InputProblem
     from protolint.rules.registry import RuleMeta
 
 SARIF_SCHEMA = "https://json.schemastore.org/sarif-2.1.0.json"
@@ -230,7 +230,7 @@ INPUT_ERROR = "protolint/input-error"
 INPUT_ERROR_TEXT = "An input (a plan or the policy) could not be read, so no plan was checked."
 
 
-def _failure_notification(problem: Any, artifact_index: dict[str, int]) -> dict[str, Any]:
+def _failure_notification(problem: InputProblem, artifact_index: dict[str, int]) -> dict[str, Any]:
     notification: dict[str, Any] = {"level": "error", "message": {"text": problem.message},
                                     "descriptor": {"id": INPUT_ERROR, "index": 0}}
     if problem.file:
