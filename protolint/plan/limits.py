@@ -26,8 +26,8 @@ MAX_SIGNOFF_ROWS = 50_000
 MAX_DATED_DUTIES = 200_000
 """Events in the calendar: training and certification deadlines, recertifications, rounds, reviews."""
 MIN_SIGNOFF_ROWS = 6
-"""Blank rows a sign-off sheet gets at least (the binder's own minimum, repeated here so the
-count is an upper bound without importing the documents)."""
+"""Blank rows a sign-off sheet of the binder gets at least (defined here, where the count needs
+it, and imported by the binder)."""
 
 
 @dataclass(frozen=True)

@@ -10,6 +10,7 @@ from typing import Any, Callable
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Endpoint, Plan, RaterPool, Sop
 from protolint.plan.monitoring import pool_spans
+from protolint.plan.limits import MIN_SIGNOFF_ROWS  # the one definition: the size limits count with it
 from protolint.render.document import DocumentCheck, DocumentControl, Fact, document_check, document_control, valid_plan
 from protolint.render.environment import number, words
 from protolint.render.phrases import join_or, sop_status_text
@@ -85,7 +86,6 @@ class BinderContext:
     check: CheckAppendix
 
 
-MIN_SIGNOFF_ROWS = 6
 
 
 def signing_pools(plan: Plan, sop: Sop) -> tuple[RaterPool, ...]:

@@ -78,6 +78,9 @@ def generate(name: str, folder: Path) -> Path:
     elif name == "too-many-sites":
         path.write_text(_replace(_base(), "    - {id: S01, name: Invented site one}\n", _sites(2001) + "    - {id: S01, name: Invented site one}\n"),
                         encoding="utf-8")
+    elif name == "too-many-signoff-rows":  # 1,000 sites keeping 100 raters each: 100,000 rows per SOP
+        text = _replace(_base(), "    - {id: S01, name: Invented site one}\n", _sites(1000) + "    - {id: S01, name: Invented site one}\n")
+        path.write_text(_replace(text, "    raters_per_site: 2\n", "    raters_per_site: 100\n"), encoding="utf-8")
     elif name == "too-many-rounds":  # 1,900 sites, a round every week for ten years
         text = _replace(_base(), "    - {id: S01, name: Invented site one}\n", _sites(1900) + "    - {id: S01, name: Invented site one}\n")
         text = _replace(_replace(text, "      interval_weeks: 12\n", "      interval_weeks: 1\n"), "  enrolment_weeks: 52\n", "  enrolment_weeks: 520\n")
@@ -88,7 +91,7 @@ def generate(name: str, folder: Path) -> Path:
 
 
 ISOLATED = {"alias-bomb", "alias-amplification", "deep-nesting", "big-file", "endless-file", "sparse-file",
-            "too-many-sites", "too-many-rounds"}
+            "too-many-sites", "too-many-rounds", "too-many-signoff-rows"}
 """Generated inputs that would exhaust memory or time if a bound broke: run in a limited child."""
 
 
