@@ -198,10 +198,22 @@ def test_old_findings_are_not_resolved_when_the_new_version_does_not_load(tmp_pa
     assert run.returncode == 1 and f"{old_count} not rechecked" in run.stdout
 
 
-def test_text_output_keeps_control_characters_on_one_line(cli, tmp_path):
+def test_text_output_keeps_line_breaks_on_one_line(cli, tmp_path):
     old = write(tmp_path, "old.yaml", DEMO_TEXT)
     new = write(tmp_path, "new.yaml", DEMO_TEXT.replace(
-        "    title: Standardised hand photography and central grading\n", '    title: "evil\\x1b[31m\\nnext"\n'))
+        "    title: Standardised hand photography and central grading\n", '    title: "evil\\tone\\nnext"\n'))
     output = cli("diff", old, new).output
     line = next(line for line in output.splitlines() if "title of SOP SOP-IMG-002" in line)
-    assert line.endswith("→ evil\\x1b[31m next") and "\x1b" not in output   # newline folded, ESC shown
+    assert line.endswith("→ evil one next")   # tab and line break folded into spaces
+
+
+def test_an_escape_sequence_in_a_plan_is_refused_before_the_comparison(cli_process, tmp_path):
+    # The loader refuses control characters written as escapes ("\x1b[31m"), so none reaches
+    # a terminal through the comparison.
+    old = write(tmp_path, "old.yaml", DEMO_TEXT)
+    new = write(tmp_path, "new.yaml", DEMO_TEXT.replace(
+        "    title: Standardised hand photography and central grading\n", '    title: "evil\\x1b[31m"\n'))
+    run = cli_process("diff", old, new)
+    [line] = run.stderr.splitlines()
+    assert run.returncode == 2 and line.startswith(f"{new}:") and "control character U+001B" in line
+    assert "\x1b" not in run.stdout + run.stderr
