@@ -188,8 +188,8 @@ def load_source(raw: bytes, file: str) -> LoadedSource:
         raise LocatedError(file, 1, 1, f"not valid YAML: {error}") from None
     except RecursionError:
         raise LocatedError(file, 1, 1, f"nesting is deeper than {MAX_DEPTH} levels") from None
-    if root is None:
-        raise LocatedError(file, 1, 1, "the file is empty; a plan is a YAML mapping of keys to values")
+    if root is None:  # nothing but comments and blank lines: a problem of the file as a whole
+        raise LocatedError(file, 0, 0, "the file is empty; a plan is a YAML mapping of keys to values")
     if _ANCHOR.search(text):  # aliases need an anchor; without one no node can be shared
         _check_expansion(root, file)
     converter = _Converter(file)
@@ -209,11 +209,13 @@ def load_source(raw: bytes, file: str) -> LoadedSource:
 def _decode(raw: bytes, file: str) -> str:
     for bom, name in _BOMS.items():
         if raw.startswith(bom):
-            raise LocatedError(file, 1, 1, f"file is {name} encoded; save it as UTF-8")
+            raise LocatedError(file, 0, 0, f"file is {name} encoded; save it as UTF-8")
     if raw.startswith(b"\xef\xbb\xbf"):
         raw = raw[3:]
-    if b"\x00" in raw[:4096]:
-        raise LocatedError(file, 1, 1, "file contains NUL bytes (UTF-16 or binary?); save it as UTF-8 text")
+    nul = raw.find(b"\x00")
+    if nul >= 0:
+        line, column = _line_column(raw[:nul].decode("utf-8", errors="replace"))
+        raise LocatedError(file, line, column, "file contains NUL bytes (UTF-16 or binary?); save it as UTF-8 text")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as error:

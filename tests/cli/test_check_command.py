@@ -132,7 +132,7 @@ def test_policy_option(cli, warning_plan, tmp_path):
     ("a: 1\na: 2\n", ":2:1:"),
     ("a: !!python/object/apply:os.system ['true']\n", ":1:4:"),
     ("a:\n\tb: 1\n", ":2:1:"),
-    ("a: 1\n".encode("utf-16"), ":1:1:"),
+    ("a: 1\n".encode("utf-16"), ":0:0:"),  # the encoding is the whole file's
 ])
 def test_unreadable_plans_exit_2_with_a_located_line(cli_process, tmp_path, content, location):
     plan = write(tmp_path, "bad.yaml", content)

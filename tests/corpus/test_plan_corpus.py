@@ -304,6 +304,23 @@ def assert_calendar_components_are_ours(data: bytes) -> None:
     assert {component.name for component in calendar.walk()} <= {"VCALENDAR", "VEVENT"}
 
 
+REPO = Path(__file__).resolve().parents[2]
+ANALYSES = (["drift", REPO / "demo_protocol" / "data" / "drift_hlsc8.csv"],
+            ["design", REPO / "demo_protocol" / "pilot" / "pilot_hlsc8_simulated.csv"])
+
+
+@pytest.mark.parametrize("case", [c for c in cases("plan", isolated=False) if not c.values[0].get("valid")])
+def test_analyses_refuse_a_plan_that_does_not_load(case, tmp_path):
+    path = materialise(case, tmp_path)
+    for command in ANALYSES:
+        run = run_in_process(*command, "--plan", path, "--format", "json")
+        assert run.code == 2 and "Traceback" not in run.stderr, (command[0], run.stderr[-2000:])
+        [line] = run.stderr.splitlines()
+        assert line.startswith(f"{path}:"), line
+        if case["exit"] == 2:
+            assert_located(run, path, case)
+
+
 # ---------------------------------------------------------------- policies
 
 @pytest.mark.parametrize("case", cases("policy"))
