@@ -80,6 +80,9 @@ def _report_failure(fmt: str, output: str | None, plans: tuple[str, ...], error:
     if output and output != "-":
         from protolint.atomic import write_atomic
 
-        write_atomic(output, report)
+        try:
+            write_atomic(output, report)
+        except ProtolintError as write_error:  # say why the report is missing, then why the check failed
+            write_error.show()
     else:
         click.echo(report, nl=False)
