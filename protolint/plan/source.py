@@ -358,7 +358,7 @@ class _Converter:
             if not isinstance(key_node, yaml.ScalarNode):
                 raise self.fail(key_node, "a key must be a plain word, not a list or mapping")
             key = key_node.value
-            control = _VALUE_CONTROL.search(key)
+            control = _VALUE_CONTROL.search(key) if key_node.style == '"' else None
             if control:
                 raise self.fail(key_node, f"the key contains the control character U+{ord(control.group(0)):04X} "
                                           "(written as an escape); remove it")
@@ -375,7 +375,8 @@ class _Converter:
     def scalar(self, node: yaml.ScalarNode) -> Any:
         value = node.value
         tag = node.tag
-        control = _VALUE_CONTROL.search(value)
+        # Only a double-quoted scalar can hold an escape; the reader refuses raw control characters.
+        control = _VALUE_CONTROL.search(value) if node.style == '"' else None
         if control:
             # Written as an escape in a quoted value ("\e[31m", "\x07"): the raw character is
             # refused by the reader, and the escaped one would reach documents and terminals.
