@@ -161,15 +161,17 @@ def test_a_known_site_without_rounds_gets_a_copy_that_says_so() -> None:
 
 
 def test_absurd_raters_per_site_is_refused_at_its_line_before_any_row_is_made(cli_process, tmp_path: Path) -> None:
-    text = plan_text(extra="    raters_per_site: 1000000000000000000\n")
-    plan = tmp_path / "plan.yaml"
-    plan.write_text(text, encoding="utf-8")
-    line = text.splitlines().index("    raters_per_site: 1000000000000000000") + 1
-    result = cli_process("render", "checklist", str(plan), "--format", "markdown", cwd=tmp_path)
-    assert result.returncode == 2 and "Traceback" not in result.stderr
-    assert result.stderr.startswith(f"{plan}:{line}:22: the monitoring checklist prints a blank row per rater")
-    assert f"more than the {MAX_BLANK_ROWS} rows a round may have" in result.stderr
-    assert len(result.stderr.strip().splitlines()) == 1 and result.stdout == ""
+    # The loader refuses a whole number beyond 2**53 - 1, and the schema a count above 100
+    # raters per site, so neither reaches the checklist; both are one located line.
+    for value, words in (("1000000000000000000", "is too large"), ("1e18", "it must be at most 100")):
+        text = plan_text(extra=f"    raters_per_site: {value}\n")
+        plan = tmp_path / "plan.yaml"
+        plan.write_text(text, encoding="utf-8")
+        line = text.splitlines().index(f"    raters_per_site: {value}") + 1
+        result = cli_process("render", "checklist", str(plan), "--format", "markdown", cwd=tmp_path)
+        assert result.returncode == 2 and "Traceback" not in result.stderr
+        assert result.stderr.startswith(f"{plan}:{line}:22: ") and words in result.stderr
+        assert len(result.stderr.strip().splitlines()) == 1 and result.stdout == ""
 
 
 def test_a_checklist_beyond_its_row_limit_is_refused_at_the_monitoring_interval(monkeypatch) -> None:
@@ -189,13 +191,17 @@ def test_a_checklist_beyond_its_row_limit_is_refused_at_the_monitoring_interval(
     assert "would have 60 rows" in caught.value.reason and "--site" not in caught.value.reason
 
 
-def test_absurd_raters_per_site_is_refused_where_a_site_has_no_roster_entries() -> None:
+def test_absurd_raters_per_site_is_refused_where_a_site_has_no_roster_entries(monkeypatch) -> None:
     from protolint.errors import LocatedError
+    from protolint.render import checklist
 
-    text = plan_text(roster={"S1": 2}, extra="    raters_per_site: 1e18\n")
+    # The schema keeps raters_per_site at most 100, the checklist's own bound; a lower bound
+    # shows the checklist's guard at work behind it.
+    monkeypatch.setattr(checklist, "MAX_BLANK_ROWS", 3)
+    text = plan_text(roster={"S1": 2}, extra="    raters_per_site: 4\n")
     with pytest.raises(LocatedError) as caught:
         checklist_context(loaded(text))
-    assert caught.value.line == text.splitlines().index("    raters_per_site: 1e18") + 1
+    assert caught.value.line == text.splitlines().index("    raters_per_site: 4") + 1
     assert "where the roster lists none" in caught.value.reason
     # S1's copy has rostered rows only, so it is made.
     assert checklist_context(loaded(text), site="S1").round_count == 12
