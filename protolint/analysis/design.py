@@ -13,7 +13,7 @@ to enrol.
 from __future__ import annotations
 
 import csv
-import hashlib
+import io
 import math
 from collections import Counter
 from dataclasses import dataclass, field
@@ -22,6 +22,8 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from protolint import CAUTION
+from protolint.data.source import parse_number
+from protolint.data.where import Where
 from protolint.errors import LocatedError, ProtolintError
 from protolint.stats.gtheory import DESIGNS, GStudy, g_study
 from protolint.wording import plural
@@ -65,26 +67,24 @@ _REQUIRED = ("subject", "rater", "score")
 def read_rows(path: str) -> list[tuple[int, list[str]]]:
     """The non-blank rows of a CSV file with their 1-based line numbers (header included).
 
-    The one place that reads the pilot file; the shared data reader can replace it.
+    The one place that reads the pilot file, with the data readers' size and cell limits and
+    their strict UTF-8 decoding (a bad byte is reported with its line and column).
     """
+    from protolint.data.rawfile import MAX_CELLS, decode_text, read_limited, too_many_cells
+
+    text = decode_text(read_limited(path))
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    rows: list[tuple[int, list[str]]] = []
+    cells = 0
     try:
-        with open(path, encoding="utf-8-sig", newline="") as stream:
-            reader = csv.reader(stream, strict=True)
-            rows: list[tuple[int, list[str]]] = []
-            try:
-                for row in reader:
-                    if row and any(cell.strip() for cell in row):
-                        rows.append((reader.line_num, row))
-            except csv.Error as error:
-                raise LocatedError(path, reader.line_num, None, f"malformed CSV: {error}") from None
-    except FileNotFoundError:
-        raise LocatedError(path, None, None, "no such file") from None
-    except IsADirectoryError:
-        raise LocatedError(path, None, None, "is a directory, expected a CSV file") from None
-    except UnicodeDecodeError as error:
-        raise LocatedError(path, None, None, f"not UTF-8 text ({error.reason} at byte {error.start})") from None
-    except OSError as error:
-        raise LocatedError(path, None, None, f"cannot read: {error.strerror}") from None
+        for row in reader:
+            if row and any(cell.strip() for cell in row):
+                cells += len(row)
+                if cells > MAX_CELLS:
+                    raise too_many_cells(Where(path, str(reader.line_num)))
+                rows.append((reader.line_num, row))
+    except csv.Error as error:
+        raise LocatedError(path, reader.line_num, None, f"malformed CSV: {error}") from None
     return rows
 
 
@@ -162,11 +162,9 @@ def pilot_from_rows(path: str, rows: list[tuple[int, list[str]]]) -> PilotRating
             missing += 1
             continue
         try:
-            score = float(cell)
-        except ValueError:
-            raise LocatedError(path, line, None, f"score {cell!r} is not a number; leave it empty for a missing rating") from None
-        if not math.isfinite(score):
-            raise LocatedError(path, line, None, f"score {cell!r} is not a finite number")
+            score = parse_number(cell)
+        except ValueError as error:
+            raise LocatedError(path, line, None, f"score {error}; leave it empty for a missing rating") from None
         key = (subject_ids.setdefault(subject, len(subject_ids)), rater_ids.setdefault(rater, len(rater_ids)),
                occasion_ids.setdefault(occasion, len(occasion_ids)))
         if key in seen:
@@ -202,11 +200,10 @@ def read_pilot(path: str) -> PilotRatings:
 
 
 def file_sha256(path: str) -> str:
-    try:
-        with open(path, "rb") as stream:
-            return hashlib.sha256(stream.read()).hexdigest()
-    except OSError as error:
-        raise LocatedError(path, None, None, f"cannot read: {error.strerror}") from None
+    """SHA-256 of the pilot file (read within the data size limit)."""
+    from protolint.data.rawfile import read_limited
+
+    return read_limited(path).sha256
 
 
 # --------------------------------------------------------------------------- design and G-study

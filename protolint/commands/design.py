@@ -199,8 +199,4 @@ def command(
         if fmt == "html":
             emit(render_html(report, paper), output, "HTML design report")
         else:
-            from protolint.atomic import write_atomic
-
-            assert output is not None
-            write_atomic(output, render_pdf(report, paper))
-            click.echo(f"protolint: wrote PDF design report to {output}", err=True)
+            emit(render_pdf(report, paper), output, "PDF design report", binary=True)

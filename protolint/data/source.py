@@ -7,6 +7,8 @@ each row in the file, so later steps can locate every error.
 
 from __future__ import annotations
 
+import math
+import re
 from dataclasses import dataclass
 from typing import Union
 
@@ -81,3 +83,42 @@ def cell_text(cell: Cell) -> str:
     if isinstance(cell, float):
         return str(int(cell)) if cell.is_integer() else repr(cell)
     return cell
+
+
+# The one grammar of a number in a data file: ASCII digits, an optional sign, decimal point
+# and exponent. Python's float() would also take "1_00", full-width digits, "nan", "inf" and
+# "infinity", none of which an export means as a rating.
+_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?", re.ASCII)
+
+# Larger magnitudes are refused: no rating scale comes near, and the sums of squares behind
+# every coefficient would overflow (1e200 squared is beyond the largest float).
+MAX_MAGNITUDE = 1e100
+
+
+def is_number_text(text: str) -> bool:
+    """True when ``text`` is written as a number (finite or not, in range or not)."""
+    return _NUMBER.fullmatch(text) is not None
+
+
+def parse_number(cell: Cell) -> float:
+    """The number in ``cell`` (text by the strict grammar, or a number a binary format stored).
+
+    Raises
+    ------
+    ValueError
+        With the reason in words: not a number, or beyond ±1e100.
+    """
+    if cell is None:
+        raise ValueError("empty")
+    if isinstance(cell, float):
+        value = cell
+    else:
+        if not _NUMBER.fullmatch(cell):
+            lowered = cell.strip().lower()
+            if lowered in ("nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"):
+                raise ValueError(f"{cell!r} is not a finite number")
+            raise ValueError(f"{cell!r} is not a number")
+        value = float(cell)
+    if not math.isfinite(value) or abs(value) > MAX_MAGNITUDE:
+        raise ValueError(f"{cell_text(cell)!r} is beyond ±1e100, outside any rating scale")
+    return value
