@@ -24,9 +24,12 @@ def parse_categories(text: str) -> tuple[str, ...]:
     spec = text.strip()
     if not spec:
         raise ProtolintError("--categories is empty; give a list such as 0,1,2,3,4 or a range such as 0-4")
-    span = re.fullmatch(r"(-?\d+)\s*(?:-|\.\.)\s*(-?\d+)", spec)
+    span = re.fullmatch(r"(-?[0-9]{1,9})\s*(?:-|\.\.)\s*(-?[0-9]{1,9})", spec)
     if span:
         low, high = int(span.group(1)), int(span.group(2))
+        if high - low >= 10_000:
+            raise ProtolintError(f"--categories range {spec!r} spans {high - low + 1:,} values; a category set has at "
+                                 "most 10,000")
         if high <= low:
             raise ProtolintError(f"--categories range {spec!r} must run from a lower to a higher whole number")
         return tuple(str(v) for v in range(low, high + 1))

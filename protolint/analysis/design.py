@@ -22,6 +22,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from protolint import CAUTION
+from protolint.data.rawfile import MAX_CELLS, MAX_DATA_BYTES
 from protolint.data.source import parse_number
 from protolint.data.where import Where
 from protolint.errors import LocatedError, ProtolintError
@@ -32,6 +33,13 @@ if TYPE_CHECKING:
     from protolint.analysis.design_plan import PlanInputs
 
 COEFFICIENTS = ("g", "phi")
+
+# Bounds (ours): the crossed designs' subjects x raters x occasions array, and the raters and
+# occasions the optimiser searches (50 x 50 = 2,500 solver calls, about a second).
+MAX_CUBE_CELLS = 6_000_000
+MAX_SEARCH = 50
+LIMITS_HELP = (f"Limits: a pilot file of at most {MAX_DATA_BYTES // 2**20} MiB and {MAX_CELLS:,} cells; at most {MAX_CUBE_CELLS:,} subjects x raters x occasions "
+               f"in a crossed design; --max-raters and --max-occasions up to {MAX_SEARCH}.")
 
 # JSON names of the G-study effects (Brennan's notation -> the report's words).
 COMPONENT_KEYS: dict[str, str] = {
@@ -287,6 +295,11 @@ def arrange(pilot: PilotRatings, design: str | None = None) -> Arrangement:
         return _arrange_nested(pilot, detected, notes)
 
     shape = (n_subjects, len(pilot.raters), n_occasions)
+    if math.prod(shape) > MAX_CUBE_CELLS:
+        raise ProtolintError(
+            f"{pilot.path}: {n_subjects:,} subjects x {len(pilot.raters):,} raters x {n_occasions:,} occasions is more "
+            f"than the {MAX_CUBE_CELLS:,} cells a crossed G-study is computed on; a pilot where raters differ between "
+            "subjects is --design r:p, and a crossed pilot has a few raters and occasions")
     cube = np.full(shape, np.nan)
     cube[pilot.subject, pilot.rater, pilot.occasion] = pilot.score
     complete = ~np.isnan(cube).reshape(n_subjects, -1).any(axis=1)
@@ -567,8 +580,17 @@ def analyse(
     sha256: str = "",
 ) -> DesignReport:
     """G-study, D-study and (with a comparison) the cost optimiser for one pilot."""
-    if max_raters < 1 or max_occasions < 1:
-        raise ProtolintError(f"--max-raters and --max-occasions must be at least 1, got {max_raters} and {max_occasions}")
+    if not (1 <= max_raters <= MAX_SEARCH and 1 <= max_occasions <= MAX_SEARCH):
+        raise ProtolintError(f"--max-raters and --max-occasions must be between 1 and {MAX_SEARCH}, got {max_raters} "
+                             f"and {max_occasions}")
+    if comparison is not None:
+        from protolint.analysis.size import MAX_EFFECT, MAX_RATIO, MIN_EFFECT, MIN_RATIO
+
+        if not MIN_EFFECT <= abs(comparison.effect_size) <= MAX_EFFECT:
+            raise ProtolintError(f"the effect size must be {MIN_EFFECT:g} to {MAX_EFFECT:g} in absolute value, got "
+                                 f"{comparison.effect_size:g}")
+        if not MIN_RATIO <= comparison.ratio <= MAX_RATIO:
+            raise ProtolintError(f"--ratio must be between {MIN_RATIO:g} and {MAX_RATIO:g}, got {comparison.ratio:g}")
     if coefficient is not None and coefficient not in COEFFICIENTS:
         raise ProtolintError(f"coefficient must be g or phi, got {coefficient!r}")
     arrangement = arrange(pilot, design)
@@ -592,8 +614,8 @@ def analyse(
     plan_point = None
     plan_note = None
     if comp is not None:
-        if costs.participant < 0 or costs.rating < 0 or costs.occasion < 0:
-            raise ProtolintError("costs must not be negative")
+        if not all(0 <= cost <= 1e12 for cost in (costs.participant, costs.rating, costs.occasion)):
+            raise ProtolintError("costs must be between 0 and 1e12 (a finite amount in one currency)")
         if costs.per_participant(1, 1) <= 0 and costs.rating <= 0 and costs.occasion <= 0:
             raise ProtolintError("give at least one cost (--cost-participant, --cost-rating, --cost-occasion) to optimise")
         try:

@@ -9,6 +9,8 @@ from typing import TYPE_CHECKING
 
 import click
 
+from protolint.data.rawfile import LIMITS_HELP as DATA_LIMITS
+
 from protolint import CAUTION
 from protolint.commands._shared import OneLineCommand, emit, to_json
 from protolint.commands.base import parse_date_option
@@ -128,7 +130,7 @@ def default_output(data: str, fmt: str) -> str | None:
     return f"{PurePath(data).stem}-drift.pdf" if fmt == "pdf" else None
 
 
-@click.command("drift", cls=OneLineCommand)
+@click.command("drift", cls=OneLineCommand, epilog=DATA_LIMITS)
 @click.argument("data", metavar="DATA")
 @click.option("--plan", type=click.Path(dir_okay=False), help="Measurement plan: criteria, intervals, roster and schedule.")
 @click.option("--pool", metavar="ID", help="Only this rater pool.")
