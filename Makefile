@@ -12,7 +12,7 @@ OUT    ?= out
 DEMO   := demo_protocol/plan.yaml
 LOCK   := constraints.txt
 
-.PHONY: demo test bench install clean rules-doc lint constraints
+.PHONY: demo test bench install clean rules-doc lint constraints fuzz
 
 install: $(STAMP)
 
@@ -53,6 +53,14 @@ test: $(STAMP)
 # One table of every speed target (bench/run_all.py collects each bench/bench_*.py's rows()).
 bench: $(STAMP)
 	@$(PY) bench/run_all.py $(BENCH_ARGS)
+
+# Coverage-guided fuzzing (atheris) of every fuzz/fuzz_*.py, a fixed number of runs each;
+# not part of `make test`. A finding stops with the input that caused it (crash-* file).
+FUZZ_RUNS ?= 20000
+fuzz: $(STAMP)
+	$(PY) -m pip install --quiet atheris
+	@for script in fuzz/fuzz_*.py; do echo "== $$script"; \
+	  $(PY) $$script -atheris_runs=$(FUZZ_RUNS) -max_len=4096 || exit 1; done
 
 # Type check and static checks (the dev extra); not part of `make test`.
 lint: $(STAMP)

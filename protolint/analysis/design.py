@@ -79,7 +79,14 @@ def read_rows(path: str) -> list[tuple[int, list[str]]]:
     their strict UTF-8 decoding (a bad byte is reported with its line and column).
     """
     from protolint.data.rawfile import MAX_CELLS, decode_text, read_limited, too_many_cells
+    from protolint.data.readers import detect_format
 
+    if detect_format(path) != "csv":
+        # Workbooks, Dataset-JSON and SAS transport through the shared reader, columns named
+        # like the roles (header first, as below).
+        from protolint.data.records import read_role_rows
+
+        return read_role_rows(path, None, _COLUMNS, skip_missing_score=False)[0]
     text = decode_text(read_limited(path))
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
     rows: list[tuple[int, list[str]]] = []

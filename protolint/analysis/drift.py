@@ -163,6 +163,8 @@ def parse_ratings(table: RawTable) -> RatingData:
     at = {name: table.header.index(name) for name in REQUIRED_COLUMNS + OPTIONAL_COLUMNS if name in table.header}
     i_date, i_site, i_rater, i_case, i_score, i_ref = (at[name] for name in REQUIRED_COLUMNS)
     i_kind, i_instrument = at.get("kind"), at.get("instrument")
+    from protolint.data.source import parse_date
+
     parsed_days: dict[str, date] = {}
     for line, cells in table.rows:
         for name in REQUIRED_COLUMNS:
@@ -172,7 +174,7 @@ def parse_ratings(table: RawTable) -> RatingData:
         day = parsed_days.get(text_day)
         if day is None:
             try:
-                day = parsed_days[text_day] = date.fromisoformat(text_day)
+                day = parsed_days[text_day] = parse_date(text_day)
             except ValueError:
                 raise LocatedError(file, line, None, f"date: {text_day!r} is not an ISO 8601 date (YYYY-MM-DD)") from None
         kind = "monitoring" if i_kind is None or not cells[i_kind] else cells[i_kind].lower()

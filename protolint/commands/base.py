@@ -9,7 +9,6 @@ with the one line, and the same line whichever command was mistyped.
 from __future__ import annotations
 
 import os
-import re
 import signal
 import threading
 from collections.abc import Iterator
@@ -29,21 +28,17 @@ OUTPUT_PARAMETERS = ("output",)
 EXIT_INTERRUPTED = 128 + signal.SIGINT
 EXIT_TERMINATED = 128 + signal.SIGTERM
 
-_ISO_DATE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
-
-
 def parse_date_option(ctx: click.Context | None, param: click.Parameter | None, value: str | None) -> date | None:
     """A click callback for date options: exactly ``YYYY-MM-DD`` (not ``20260715``, not
     ``2026-W01-1``, which Python's ``date.fromisoformat`` also accepts), a real date."""
+    from protolint.data.source import parse_date
+
     if value is None:
         return None
-    name = param.opts[0] if param is not None and param.opts else "the date"
-    if not _ISO_DATE.fullmatch(value):
-        raise click.BadParameter(f"{value!r} is not a date written YYYY-MM-DD", ctx, param)
     try:
-        return date.fromisoformat(value)
+        return parse_date(value)
     except ValueError as error:
-        raise click.BadParameter(f"{value!r} is not a date ({error})", ctx, param) from None
+        raise click.BadParameter(str(error), ctx, param) from None
 
 
 class Interrupted(ProtolintError):

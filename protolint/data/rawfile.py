@@ -107,7 +107,10 @@ def decode_text(raw: RawFile) -> str:
         good = data[:error.start].decode("utf-8", "replace")
         line, column = _line_column(good)
         byte = data[error.start]
-        hint = " (the file looks like Latin-1 or Windows-1252; save it as UTF-8)" if byte >= 0x80 else ""
+        if error.reason == "unexpected end of data":
+            hint = " (the file ends inside a character: is it truncated?)"
+        else:
+            hint = " (the file looks like Latin-1 or Windows-1252; save it as UTF-8)" if byte >= 0x80 else ""
         raise DataError(Where(raw.path, f"{line}:{column}"),
                         f"not UTF-8 text: byte 0x{byte:02x} at byte offset {error.start}{hint}") from None
     found = _CONTROL.search(text)

@@ -10,6 +10,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
+from datetime import date
 from typing import Union
 
 from protolint.data.where import Where
@@ -95,6 +96,13 @@ _NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?
 MAX_MAGNITUDE = 1e100
 
 
+def shown_text(text: str, most: int = 40) -> str:
+    """``text`` quoted for a message, shortened when long (a 5,000-digit cell stays one short line)."""
+    if len(text) <= most:
+        return repr(text)
+    return f"{text[:most]!r}… ({len(text):,} characters)"
+
+
 def is_number_text(text: str) -> bool:
     """True when ``text`` is written as a number (finite or not, in range or not)."""
     return _NUMBER.fullmatch(text) is not None
@@ -116,9 +124,30 @@ def parse_number(cell: Cell) -> float:
         if not _NUMBER.fullmatch(cell):
             lowered = cell.strip().lower()
             if lowered in ("nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"):
-                raise ValueError(f"{cell!r} is not a finite number")
-            raise ValueError(f"{cell!r} is not a number")
+                raise ValueError(f"{shown_text(cell)} is not a finite number")
+            raise ValueError(f"{shown_text(cell)} is not a number")
         value = float(cell)
     if not math.isfinite(value) or abs(value) > MAX_MAGNITUDE:
-        raise ValueError(f"{cell_text(cell)!r} is beyond ±1e100, outside any rating scale")
+        shown = f"{value:g}" if isinstance(cell, float) else shown_text(cell)
+        raise ValueError(f"{shown} is beyond ±1e100, outside any rating scale")
     return value
+
+
+_ISO_DATE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
+
+
+def parse_date(text: str) -> date:
+    """A calendar date written exactly YYYY-MM-DD (Python's ``date.fromisoformat`` would also
+    take ``20260715`` and week dates such as ``2026-W01-1``).
+
+    Raises
+    ------
+    ValueError
+        When the text has another form or names no real date.
+    """
+    if not _ISO_DATE.fullmatch(text):
+        raise ValueError(f"{text!r} is not a date written YYYY-MM-DD")
+    try:
+        return date.fromisoformat(text)
+    except ValueError as error:
+        raise ValueError(f"{text!r} is not a date ({error})") from None
