@@ -24,7 +24,7 @@ def parse_categories(text: str) -> tuple[str, ...]:
     spec = text.strip()
     if not spec:
         raise ProtolintError("--categories is empty; give a list such as 0,1,2,3,4 or a range such as 0-4")
-    span = re.fullmatch(r"(-?[0-9]{1,9})\s*(?:-|\.\.)\s*(-?[0-9]{1,9})", spec)
+    span = re.fullmatch(r"(-?[0-9]{1,18})\s*(?:-|\.\.)\s*(-?[0-9]{1,18})", spec)
     if span:
         low, high = int(span.group(1)), int(span.group(2))
         if high - low >= 10_000:

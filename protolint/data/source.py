@@ -91,9 +91,11 @@ def cell_text(cell: Cell) -> str:
 # "infinity", none of which an export means as a rating.
 _NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?", re.ASCII)
 
-# Larger magnitudes are refused: no rating scale comes near, and the sums of squares behind
-# every coefficient would overflow (1e200 squared is beyond the largest float).
-MAX_MAGNITUDE = 1e100
+# Larger magnitudes are refused: no rating scale, count or laboratory value in a rated outcome
+# comes near, and the statistics square their mean squares (an ICC interval's Satterthwaite
+# degrees of freedom hold fourth powers of the scores), which overflows long before the
+# largest float: 1e99 already gives infinity there. 1e15 keeps fourth powers near 1e60.
+MAX_MAGNITUDE = 1e15
 
 
 def shown_text(text: str, most: int = 40) -> str:
@@ -114,7 +116,7 @@ def parse_number(cell: Cell) -> float:
     Raises
     ------
     ValueError
-        With the reason in words: not a number, or beyond ±1e100.
+        With the reason in words: not a number, or beyond ±1e15.
     """
     if cell is None:
         raise ValueError("empty")
@@ -129,7 +131,7 @@ def parse_number(cell: Cell) -> float:
         value = float(cell)
     if not math.isfinite(value) or abs(value) > MAX_MAGNITUDE:
         shown = f"{value:g}" if isinstance(cell, float) else shown_text(cell)
-        raise ValueError(f"{shown} is beyond ±1e100, outside any rating scale")
+        raise ValueError(f"{shown} is beyond ±1e15, outside any rating scale")
     return value
 
 
