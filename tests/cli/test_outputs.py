@@ -187,3 +187,17 @@ def test_a_control_character_in_a_message_never_splits_it(tmp_path: Path) -> Non
     path.write_text("subject,r1,r2\nS01,3,x\nS02,1,2\n", encoding="utf-8")
     result = run("agreement", path)
     one_line_error(result, "bad\\nname\\x1b[31m.csv")
+
+
+def test_ctrl_c_during_a_pdf_render_ends_it_without_a_file(tmp_path: Path) -> None:
+    target = tmp_path / "binder.pdf"
+    process = subprocess.Popen([sys.executable, "-m", "protolint", "render", "binder", str(DEMO_PLAN), "--output",
+                                str(target)], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, cwd=ROOT)
+    time.sleep(1.5)
+    if process.poll() is not None:
+        pytest.skip("the render finished before the signal could be sent")
+    process.send_signal(signal.SIGINT)
+    _, stderr = process.communicate(timeout=120)
+    assert process.returncode == 130, stderr
+    assert stderr.strip() == "protolint: interrupted; no output was written"
+    assert list(tmp_path.iterdir()) == []
