@@ -65,7 +65,7 @@ fuzz: $(STAMP)
 	  echo "== $$harness ($(FUZZ_RUNS) runs)"; \
 	  PYTHONPATH=. $(PY) $$harness -runs=$(FUZZ_RUNS) -max_len=65536 -rss_limit_mb=2048 -timeout=20 -print_final_stats=1 || exit 1; \
 	done
-	PROTOLINT_FUZZ_EXAMPLES=$(FUZZ_EXAMPLES) $(PY) -m pytest -q tests/properties tests/corpus
+	PROTOLINT_FUZZ_EXAMPLES=$(FUZZ_EXAMPLES) $(PY) -m pytest -q tests/properties tests/stats/test_properties.py tests/commands/test_random_inputs.py tests/corpus
 
 # Type check and static checks (the dev extra); not part of `make test`.
 lint: $(STAMP)

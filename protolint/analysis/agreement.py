@@ -27,6 +27,8 @@ if TYPE_CHECKING:
 
 SCALES = ("interval", "ordinal", "nominal")
 DEFAULT_BOOTSTRAP = 1000
+# More replicates than this add nothing to a percentile interval but time (ours).
+MAX_BOOTSTRAP = 20_000
 
 # Koo & Li (2016) ask for at least 30 heterogeneous subjects in a reliability study; below that
 # an interval is wide and a band says little.
@@ -221,6 +223,30 @@ def _category_values(table: RatingTable, declared: Sequence[str] | None) -> tupl
     return values, numbers, None
 
 
+# The kappa-type coefficients work on a subjects x categories count table and a categories x
+# categories weight matrix: their time grows with subjects x categories squared. Beyond these
+# bounds they are left out with the reason (Krippendorff's alpha is still computed, in time
+# linear in the ratings). No rating scale read as categories has more than a few dozen levels;
+# more distinct values usually mean continuous scores that belong on --scale interval.
+MAX_CATEGORIES = 200
+MAX_COUNT_CELLS = 20_000_000
+
+LIMITS_HELP = (f"Kappa-type coefficients (Fleiss, Cohen, Gwet) are computed for at most {MAX_CATEGORIES} categories "
+               f"and {MAX_COUNT_CELLS:,} subjects x categories.")
+
+
+def category_limit_reason(n_categories: int, n_subjects: int) -> str | None:
+    """Why the kappa-type coefficients are left out for this many categories, or None."""
+    if n_categories > MAX_CATEGORIES:
+        return (f"{n_categories:,} distinct categories, more than the {MAX_CATEGORIES} the kappa-type coefficients "
+                "are computed for; scores with this many values are usually continuous: use --scale interval, or "
+                "group them into categories")
+    if n_categories * n_subjects > MAX_COUNT_CELLS:
+        return (f"{n_subjects:,} subjects x {n_categories} categories is more than the {MAX_COUNT_CELLS:,} "
+                "the kappa-type coefficients are computed for")
+    return None
+
+
 def _label(value: float, labels: tuple[str, ...] | None) -> str:
     return labels[int(value)] if labels is not None else f"{value:g}"
 
@@ -251,8 +277,9 @@ def analyse(
         raise ProtolintError(f"scale must be one of {', '.join(SCALES)}, got {scale!r}")
     if not 0.0 < confidence < 1.0:
         raise ProtolintError(f"--confidence must be between 0 and 1, got {confidence}")
-    if bootstrap < 0:
-        raise ProtolintError(f"--bootstrap must be 0 (no interval) or a positive number of replicates, got {bootstrap}")
+    if not 0 <= bootstrap <= MAX_BOOTSTRAP:
+        raise ProtolintError(f"--bootstrap must be 0 (no interval) or a number of replicates up to {MAX_BOOTSTRAP:,}, "
+                             f"got {bootstrap}")
     if categories is not None and scale == "interval":
         raise ProtolintError("--categories applies to --scale ordinal or nominal (the category-based coefficients)")
     scheme = scheme_for(scale)
@@ -358,6 +385,15 @@ def analyse(
                 "(or --plan and --instrument) so that a category nobody used still counts."
             )
 
+        n_categories = len(cats) if cats is not None else int(observed.size)
+        too_many = category_limit_reason(n_categories, values.shape[0])
+        if too_many:
+            kappa_type = ["fleiss_kappa", "cohen_kappa", "gwet_ac1"]
+            if scale == "ordinal":
+                kappa_type += ["cohen_kappa_linear", "cohen_kappa_quadratic", "gwet_ac2"]
+            for name in kappa_type:
+                skipped[name] = too_many
+
         def fleiss() -> Coefficient:
             r = stats.fleiss_kappa(coded, confidence=confidence, categories=cats)
             n_ratings = int(r.n_ratings)
@@ -365,9 +401,12 @@ def analyse(
             return judged("fleiss_kappa", r.value, r.ci.low, r.ci.high, r.n_subjects, n_ratings, _CI_GWET, se=r.se,
                           se0=r.se0, z=r.z, p_value=r.p_value, categories=per_category, method=r.method)
 
-        attempt("fleiss_kappa", fleiss)
+        if not too_many:
+            attempt("fleiss_kappa", fleiss)
         kappa_names = ["cohen_kappa"] + (["cohen_kappa_linear", "cohen_kappa_quadratic"] if scale == "ordinal" else [])
-        if n_raters != 2:
+        if too_many:
+            pass
+        elif n_raters != 2:
             for name in kappa_names:
                 skipped[name] = f"Cohen's kappa needs exactly 2 raters and the file has {n_raters}; see Fleiss' kappa."
         else:
@@ -387,8 +426,9 @@ def analyse(
             r = stats.gwet_ac1(coded, confidence=confidence, categories=cats)
             return judged("gwet_ac1", r.value, r.ci.low, r.ci.high, r.n_subjects, _ratings_in(rated), _CI_GWET, se=r.se)
 
-        attempt("gwet_ac1", ac1)
-        if scale == "ordinal":
+        if not too_many:
+            attempt("gwet_ac1", ac1)
+        if scale == "ordinal" and not too_many:
             def ac2() -> Coefficient:
                 r = stats.gwet_ac2(coded, weights="quadratic", confidence=confidence, categories=cats)
                 return judged("gwet_ac2", r.value, r.ci.low, r.ci.high, r.n_subjects, _ratings_in(rated), _CI_GWET,
@@ -430,6 +470,13 @@ def _ratings_in(values: NDArray[np.float64]) -> int:
     import numpy as np
 
     return int((~np.isnan(values)).sum())
+
+
+def _some(labels: Sequence[str], shown: int = 40) -> str:
+    """Labels joined, the first ``shown`` only when there are many (the JSON lists them all)."""
+    if len(labels) <= shown:
+        return ", ".join(labels)
+    return f"{', '.join(labels[:shown])} … ({len(labels):,} in all)"
 
 
 def _join(names: Sequence[str]) -> str:
@@ -475,9 +522,9 @@ def format_text(report: AgreementReport, width: int = 100) -> str:
     if report.categories is not None:
         cats = report.categories
         source = {"observed": "as observed in the file", "--categories": "declared with --categories"}.get(cats.source, f"from {cats.source}")
-        text = f"Categories ({source}): {', '.join(cats.declared)}."
+        text = f"Categories ({source}): {_some(cats.declared)}."
         if cats.source != "observed":
-            text += f" Used: {', '.join(cats.used) or 'none'}. Unused: {', '.join(cats.unused) or 'none'}."
+            text += f" Used: {_some(cats.used) or 'none'}. Unused: {_some(cats.unused) or 'none'}."
         lines += wrap(text)
     lines.append("")
     name_width = 34

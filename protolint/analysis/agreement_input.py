@@ -14,15 +14,22 @@ from protolint.wording import plural
 if TYPE_CHECKING:
     from protolint.data import RatingTable, ReadOptions
 
+# A contingency table's counts become one row per rated subject; beyond this the table is
+# refused before anything is allocated (the rows of --table are 16 bytes each).
+MAX_TABLE_PAIRS = 10_000_000
+
 
 def parse_categories(text: str) -> tuple[str, ...]:
     """``"0,1,2,3,4"``, ``"0-4"`` (whole numbers from 0 to 4) or text labels ``"none,mild,severe"``."""
     spec = text.strip()
     if not spec:
         raise ProtolintError("--categories is empty; give a list such as 0,1,2,3,4 or a range such as 0-4")
-    span = re.fullmatch(r"(-?\d+)\s*(?:-|\.\.)\s*(-?\d+)", spec)
+    span = re.fullmatch(r"(-?[0-9]{1,18})\s*(?:-|\.\.)\s*(-?[0-9]{1,18})", spec)
     if span:
         low, high = int(span.group(1)), int(span.group(2))
+        if high - low >= 10_000:
+            raise ProtolintError(f"--categories range {spec!r} spans {high - low + 1:,} values; a category set has at "
+                                 "most 10,000")
         if high <= low:
             raise ProtolintError(f"--categories range {spec!r} must run from a lower to a higher whole number")
         return tuple(str(v) for v in range(low, high + 1))
@@ -97,19 +104,28 @@ def _expand_table(table: RatingTable) -> RatingTable:
 
     from protolint.data.table import RatingTable
 
-    try:
-        row_values = [float(label) for label in table.subjects]
-        col_values = [float(label) for label in table.columns]
+    from protolint.data.source import is_number_text, parse_number
+
+    if all(is_number_text(label) for label in (*table.subjects, *table.columns)):
+        row_values = [parse_number(label) for label in table.subjects]
+        col_values = [parse_number(label) for label in table.columns]
         labels = None
-    except ValueError:
-        labels = tuple(sorted(set(table.subjects)))
+    else:
+        labels = tuple(sorted(set(table.subjects) | set(table.columns)))
         row_values = [float(labels.index(label)) for label in table.subjects]
         col_values = [float(labels.index(label)) for label in table.columns]
-    counts = table.values.astype(int)
-    pairs = [(row_values[i], col_values[j]) for i in range(counts.shape[0]) for j in range(counts.shape[1]) for _ in range(counts[i, j])]
-    if len(pairs) < 2:
-        raise LocatedError(table.path, 1, None, f"the table counts {plural(len(pairs), 'subject')}; at least 2 are needed")
-    values = np.array(pairs, dtype=float)
+    counts = table.values.astype(np.int64)
+    total = int(counts.sum())
+    if total > MAX_TABLE_PAIRS:
+        raise LocatedError(table.path, 0, None, f"the table counts {total:,} rated subjects; --table reads at most "
+                                                f"{MAX_TABLE_PAIRS:,}")
+    if total < 2:
+        raise LocatedError(table.path, 1, None, f"the table counts {plural(total, 'subject')}; at least 2 are needed")
+    repeat = counts.ravel()
+    rows = np.repeat(np.repeat(np.asarray(row_values), counts.shape[1]), repeat)
+    cols = np.repeat(np.tile(np.asarray(col_values), counts.shape[0]), repeat)
+    values = np.column_stack((rows, cols))
+    pairs = range(total)
     return RatingTable(
         path=table.path,
         id_header="subject",

@@ -13,7 +13,7 @@ to enrol.
 from __future__ import annotations
 
 import csv
-import hashlib
+import io
 import math
 from collections import Counter
 from dataclasses import dataclass, field
@@ -22,6 +22,9 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from protolint import CAUTION
+from protolint.data.rawfile import MAX_CELLS, MAX_DATA_BYTES
+from protolint.data.source import parse_number
+from protolint.data.where import Where
 from protolint.errors import LocatedError, ProtolintError
 from protolint.stats.gtheory import DESIGNS, GStudy, g_study
 from protolint.wording import plural
@@ -30,6 +33,13 @@ if TYPE_CHECKING:
     from protolint.analysis.design_plan import PlanInputs
 
 COEFFICIENTS = ("g", "phi")
+
+# Bounds (ours): the crossed designs' subjects x raters x occasions array, and the raters and
+# occasions the optimiser searches (50 x 50 = 2,500 solver calls, about a second).
+MAX_CUBE_CELLS = 6_000_000
+MAX_SEARCH = 50
+LIMITS_HELP = (f"Limits: a pilot file of at most {MAX_DATA_BYTES // 2**20} MiB and {MAX_CELLS:,} cells; at most {MAX_CUBE_CELLS:,} subjects x raters x occasions "
+               f"in a crossed design; --max-raters and --max-occasions up to {MAX_SEARCH}.")
 
 # JSON names of the G-study effects (Brennan's notation -> the report's words).
 COMPONENT_KEYS: dict[str, str] = {
@@ -65,26 +75,31 @@ _REQUIRED = ("subject", "rater", "score")
 def read_rows(path: str) -> list[tuple[int, list[str]]]:
     """The non-blank rows of a CSV file with their 1-based line numbers (header included).
 
-    The one place that reads the pilot file; the shared data reader can replace it.
+    The one place that reads the pilot file, with the data readers' size and cell limits and
+    their strict UTF-8 decoding (a bad byte is reported with its line and column).
     """
+    from protolint.data.rawfile import MAX_CELLS, decode_text, read_limited, too_many_cells
+    from protolint.data.readers import detect_format
+
+    if detect_format(path) != "csv":
+        # Workbooks, Dataset-JSON and SAS transport through the shared reader, columns named
+        # like the roles (header first, as below).
+        from protolint.data.records import read_role_rows
+
+        return read_role_rows(path, None, _COLUMNS, skip_missing_score=False)[0]
+    text = decode_text(read_limited(path))
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    rows: list[tuple[int, list[str]]] = []
+    cells = 0
     try:
-        with open(path, encoding="utf-8-sig", newline="") as stream:
-            reader = csv.reader(stream, strict=True)
-            rows: list[tuple[int, list[str]]] = []
-            try:
-                for row in reader:
-                    if row and any(cell.strip() for cell in row):
-                        rows.append((reader.line_num, row))
-            except csv.Error as error:
-                raise LocatedError(path, reader.line_num, None, f"malformed CSV: {error}") from None
-    except FileNotFoundError:
-        raise LocatedError(path, None, None, "no such file") from None
-    except IsADirectoryError:
-        raise LocatedError(path, None, None, "is a directory, expected a CSV file") from None
-    except UnicodeDecodeError as error:
-        raise LocatedError(path, None, None, f"not UTF-8 text ({error.reason} at byte {error.start})") from None
-    except OSError as error:
-        raise LocatedError(path, None, None, f"cannot read: {error.strerror}") from None
+        for row in reader:
+            if row and any(cell.strip() for cell in row):
+                cells += len(row)
+                if cells > MAX_CELLS:
+                    raise too_many_cells(Where(path, str(reader.line_num)))
+                rows.append((reader.line_num, row))
+    except csv.Error as error:
+        raise LocatedError(path, reader.line_num, None, f"malformed CSV: {error}") from None
     return rows
 
 
@@ -162,11 +177,9 @@ def pilot_from_rows(path: str, rows: list[tuple[int, list[str]]]) -> PilotRating
             missing += 1
             continue
         try:
-            score = float(cell)
-        except ValueError:
-            raise LocatedError(path, line, None, f"score {cell!r} is not a number; leave it empty for a missing rating") from None
-        if not math.isfinite(score):
-            raise LocatedError(path, line, None, f"score {cell!r} is not a finite number")
+            score = parse_number(cell)
+        except ValueError as error:
+            raise LocatedError(path, line, None, f"score {error}; leave it empty for a missing rating") from None
         key = (subject_ids.setdefault(subject, len(subject_ids)), rater_ids.setdefault(rater, len(rater_ids)),
                occasion_ids.setdefault(occasion, len(occasion_ids)))
         if key in seen:
@@ -202,11 +215,10 @@ def read_pilot(path: str) -> PilotRatings:
 
 
 def file_sha256(path: str) -> str:
-    try:
-        with open(path, "rb") as stream:
-            return hashlib.sha256(stream.read()).hexdigest()
-    except OSError as error:
-        raise LocatedError(path, None, None, f"cannot read: {error.strerror}") from None
+    """SHA-256 of the pilot file (read within the data size limit)."""
+    from protolint.data.rawfile import read_limited
+
+    return read_limited(path).sha256
 
 
 # --------------------------------------------------------------------------- design and G-study
@@ -290,6 +302,11 @@ def arrange(pilot: PilotRatings, design: str | None = None) -> Arrangement:
         return _arrange_nested(pilot, detected, notes)
 
     shape = (n_subjects, len(pilot.raters), n_occasions)
+    if math.prod(shape) > MAX_CUBE_CELLS:
+        raise ProtolintError(
+            f"{pilot.path}: {n_subjects:,} subjects x {len(pilot.raters):,} raters x {n_occasions:,} occasions is more "
+            f"than the {MAX_CUBE_CELLS:,} cells a crossed G-study is computed on; a pilot where raters differ between "
+            "subjects is --design r:p, and a crossed pilot has a few raters and occasions")
     cube = np.full(shape, np.nan)
     cube[pilot.subject, pilot.rater, pilot.occasion] = pilot.score
     complete = ~np.isnan(cube).reshape(n_subjects, -1).any(axis=1)
@@ -570,8 +587,17 @@ def analyse(
     sha256: str = "",
 ) -> DesignReport:
     """G-study, D-study and (with a comparison) the cost optimiser for one pilot."""
-    if max_raters < 1 or max_occasions < 1:
-        raise ProtolintError(f"--max-raters and --max-occasions must be at least 1, got {max_raters} and {max_occasions}")
+    if not (1 <= max_raters <= MAX_SEARCH and 1 <= max_occasions <= MAX_SEARCH):
+        raise ProtolintError(f"--max-raters and --max-occasions must be between 1 and {MAX_SEARCH}, got {max_raters} "
+                             f"and {max_occasions}")
+    if comparison is not None:
+        from protolint.analysis.size import MAX_EFFECT, MAX_RATIO, MIN_EFFECT, MIN_RATIO
+
+        if not MIN_EFFECT <= abs(comparison.effect_size) <= MAX_EFFECT:
+            raise ProtolintError(f"the effect size must be {MIN_EFFECT:g} to {MAX_EFFECT:g} in absolute value, got "
+                                 f"{comparison.effect_size:g}")
+        if not MIN_RATIO <= comparison.ratio <= MAX_RATIO:
+            raise ProtolintError(f"--ratio must be between {MIN_RATIO:g} and {MAX_RATIO:g}, got {comparison.ratio:g}")
     if coefficient is not None and coefficient not in COEFFICIENTS:
         raise ProtolintError(f"coefficient must be g or phi, got {coefficient!r}")
     arrangement = arrange(pilot, design)
@@ -595,8 +621,8 @@ def analyse(
     plan_point = None
     plan_note = None
     if comp is not None:
-        if costs.participant < 0 or costs.rating < 0 or costs.occasion < 0:
-            raise ProtolintError("costs must not be negative")
+        if not all(0 <= cost <= 1e12 for cost in (costs.participant, costs.rating, costs.occasion)):
+            raise ProtolintError("costs must be between 0 and 1e12 (a finite amount in one currency)")
         if costs.per_participant(1, 1) <= 0 and costs.rating <= 0 and costs.occasion <= 0:
             raise ProtolintError("give at least one cost (--cost-participant, --cost-rating, --cost-occasion) to optimise")
         try:

@@ -32,7 +32,6 @@ Conventions (stated so that the report can be checked by hand):
 from __future__ import annotations
 
 import dataclasses
-import hashlib
 import math
 from collections import defaultdict
 from dataclasses import dataclass, field
@@ -101,15 +100,9 @@ def read_rows(file: str, read_options: ReadOptions | None = None) -> RawTable:
     numbers. Only reading happens here; every check of the values is in :func:`parse_ratings`."""
     from protolint.data.records import read_role_rows
 
-    try:
-        with open(file, "rb") as stream:
-            digest = hashlib.sha256(stream.read()).hexdigest()
-    except FileNotFoundError:
-        raise LocatedError(file, None, None, "no such file") from None
-    except IsADirectoryError:
-        raise LocatedError(file, None, None, "is a folder, expected a data file") from None
-    except OSError as error:
-        raise LocatedError(file, None, None, f"cannot read: {error.strerror}") from None
+    from protolint.data.rawfile import read_limited
+
+    digest = read_limited(file).sha256
     rows, _ = read_role_rows(file, read_options, ROLES, REQUIRED_COLUMNS, keep=OPTIONAL_COLUMNS,
                              skip_missing_score=False)
     (_, header), body = rows[0], rows[1:]
@@ -145,13 +138,12 @@ class RatingData:
 
 
 def _number(file: str, line: int, column: str, cell: str) -> float:
+    from protolint.data.source import parse_number
+
     try:
-        value = float(cell)
-    except ValueError:
-        raise LocatedError(file, line, None, f"{column}: {cell!r} is not a number") from None
-    if not math.isfinite(value):
-        raise LocatedError(file, line, None, f"{column}: {cell!r} is not a finite number")
-    return value
+        return parse_number(cell)
+    except ValueError as error:
+        raise LocatedError(file, line, None, f"{column}: {error}") from None
 
 
 def parse_ratings(table: RawTable) -> RatingData:
@@ -171,6 +163,8 @@ def parse_ratings(table: RawTable) -> RatingData:
     at = {name: table.header.index(name) for name in REQUIRED_COLUMNS + OPTIONAL_COLUMNS if name in table.header}
     i_date, i_site, i_rater, i_case, i_score, i_ref = (at[name] for name in REQUIRED_COLUMNS)
     i_kind, i_instrument = at.get("kind"), at.get("instrument")
+    from protolint.data.source import parse_date
+
     parsed_days: dict[str, date] = {}
     for line, cells in table.rows:
         for name in REQUIRED_COLUMNS:
@@ -180,7 +174,7 @@ def parse_ratings(table: RawTable) -> RatingData:
         day = parsed_days.get(text_day)
         if day is None:
             try:
-                day = parsed_days[text_day] = date.fromisoformat(text_day)
+                day = parsed_days[text_day] = parse_date(text_day)
             except ValueError:
                 raise LocatedError(file, line, None, f"date: {text_day!r} is not an ISO 8601 date (YYYY-MM-DD)") from None
         kind = "monitoring" if i_kind is None or not cells[i_kind] else cells[i_kind].lower()

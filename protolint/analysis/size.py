@@ -243,10 +243,45 @@ class SizeReport:
         return render_text(self.to_json())
 
 
+# Bounds of a request, checked before any solver runs. Outside them the exact solvers would
+# divide by zero or overflow (d = 1e-300 needs ~10^600 participants; d = 1e300 squares to
+# infinity), and no trial is planned there: a standardised difference below 0.001 needs more
+# than 15 million participants per group, one above 20 separates the groups completely, and an
+# allocation beyond 1:100 is not randomisation. Our bounds (common practice).
+MIN_EFFECT, MAX_EFFECT = 0.001, 20.0
+MIN_RATIO, MAX_RATIO = 0.01, 100.0
+MAX_N_TOTAL = 100_000_000
+MAX_STUDY_RATERS = 1000
+
+LIMITS_HELP = (f"Bounds: |effect size| {MIN_EFFECT:g} to {MAX_EFFECT:g} (a correlation below 1), --ratio "
+               f"{MIN_RATIO:g} to {MAX_RATIO:g}, --n-total up to {MAX_N_TOTAL:,}, --study-raters up to {MAX_STUDY_RATERS}.")
+
+
+def check_bounds(req: Request) -> None:
+    """Refuse a request outside the bounds above, naming the option and the value."""
+    size = abs(req.effect_size)
+    name = "--effect-size" if req.difference is None else "--difference / --sd"
+    if req.design == "two-group" and not MIN_EFFECT <= size <= MAX_EFFECT:
+        why = ("too small to detect with any trial's participants" if size < MIN_EFFECT else
+               "larger than any effect a trial is planned for (the groups would not overlap)" if size > MAX_EFFECT
+               else "not a number")
+        raise ProtolintError(f"{name} gives a standardised difference of {req.effect_size:g}, {why}; expected "
+                             f"{MIN_EFFECT:g} to {MAX_EFFECT:g} in absolute value")
+    if req.design == "correlation" and not MIN_EFFECT <= size < 1.0:
+        raise ProtolintError(f"--effect-size r must be between {MIN_EFFECT:g} and 1 in absolute value, got {req.effect_size:g}")
+    if not MIN_RATIO <= req.ratio <= MAX_RATIO:
+        raise ProtolintError(f"--ratio must be between {MIN_RATIO:g} and {MAX_RATIO:g}, got {req.ratio:g}")
+    if req.n_total_given is not None and req.n_total_given > MAX_N_TOTAL:
+        raise ProtolintError(f"--n-total must be at most {MAX_N_TOTAL:,}, got {req.n_total_given:,}")
+    if req.study_raters is not None and req.study_raters > MAX_STUDY_RATERS:
+        raise ProtolintError(f"--study-raters must be at most {MAX_STUDY_RATERS}, got {req.study_raters:,}")
+
+
 def plan_size(request: Request, curve: bool = False) -> SizeReport:
     """Sample size (and, as asked, power at a given N and a reliability study) for ``request``."""
     from protolint.stats import SolverError
 
+    check_bounds(request)
     solve = _two_group if request.design == "two-group" else _correlation
     try:
         return SizeReport(

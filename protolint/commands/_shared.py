@@ -5,24 +5,24 @@ from __future__ import annotations
 
 import json
 import math
+import sys
 from datetime import date
 from typing import Any, Callable, TypeVar
 
 import click
 
 from protolint.commands.base import ProtolintCommand
+from protolint.errors import ProtolintError
 
 
 F = TypeVar("F", bound=Callable[..., Any])
 
 
 def parse_as_of(ctx: click.Context, param: click.Parameter, value: str | None) -> date | None:
-    if value is None:
-        return None
-    try:
-        return date.fromisoformat(value)
-    except ValueError:
-        raise click.BadParameter(f"{value!r} is not a date written YYYY-MM-DD") from None
+    """``--as-of``: exactly YYYY-MM-DD (see ``commands.base.parse_date_option``)."""
+    from protolint.commands.base import parse_date_option
+
+    return parse_date_option(ctx, param, value)
 
 
 def check_options(as_of_help: str = "Date the date rules compare with (default: each plan's plan_date).") -> Callable[[F], F]:
@@ -57,12 +57,26 @@ def to_json(report: dict[str, Any]) -> str:
 OneLineCommand = ProtolintCommand
 
 
-def emit(text: str, output: str | None, what: str) -> None:
-    """Write ``text`` to stdout, or atomically to ``output`` with a note on stderr."""
-    if output:
+def emit(content: str | bytes, output: str | None, what: str, *, binary: bool = False) -> None:
+    """Write ``content`` to standard output (``output`` None or ``-``), or atomically to the
+    file ``output`` with a note on stderr.
+
+    ``binary`` content (a PDF) is refused on a terminal, where it would only garble the
+    screen; redirected or piped standard output takes it.
+    """
+    from protolint.atomic import STDOUT
+
+    if output and output != STDOUT:
         from protolint.atomic import write_atomic
 
-        write_atomic(output, text)
+        write_atomic(output, content)
         click.echo(f"protolint: wrote {what} to {output}", err=True)
+        return
+    if isinstance(content, bytes):
+        if binary and sys.stdout.isatty():
+            raise ProtolintError(f"refusing to write the {what} to a terminal; give --output FILE or redirect "
+                                 "standard output to a file")
+        sys.stdout.buffer.write(content)
+        sys.stdout.buffer.flush()
     else:
-        click.echo(text, nl=False)
+        click.echo(content, nl=False)

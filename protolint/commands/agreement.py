@@ -6,6 +6,9 @@ from typing import TYPE_CHECKING
 
 import click
 
+from protolint.analysis.agreement import LIMITS_HELP as KAPPA_LIMITS, MAX_BOOTSTRAP
+from protolint.data.rawfile import LIMITS_HELP as DATA_LIMITS
+
 from protolint.analysis.agreement import DEFAULT_BOOTSTRAP, SCALES
 from protolint.commands._shared import emit, to_json
 from protolint.commands.base import ProtolintCommand
@@ -16,7 +19,7 @@ if TYPE_CHECKING:
     from protolint.data import ReadOptions
 
 
-@click.command("agreement", cls=ProtolintCommand)
+@click.command("agreement", cls=ProtolintCommand, epilog=f"{DATA_LIMITS} {KAPPA_LIMITS} --bootstrap up to {MAX_BOOTSTRAP:,}.")
 @click.argument("ratings", metavar="RATINGS.csv", type=click.Path(dir_okay=False))
 @click.option("--scale", type=click.Choice(SCALES), default="interval", show_default=True,
               help="Level of measurement of the ratings; selects the coefficients.")

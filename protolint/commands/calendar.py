@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import sys
 from datetime import date
 
 import click
@@ -38,11 +37,6 @@ def command(plan: str, output: str | None, policy: str | None, as_of: date | Non
 
     loaded = read_plan_file(plan)
     data = render_calendar(loaded, document_check(loaded, policy, as_of))
-    if output is None or output == "-":
-        sys.stdout.buffer.write(data)
-        sys.stdout.buffer.flush()
-        return
-    from protolint.atomic import write_atomic
+    from protolint.commands._shared import emit
 
-    write_atomic(output, data)
-    click.echo(f"protolint: wrote calendar to {output}", err=True)
+    emit(data, output, "calendar")

@@ -6,6 +6,8 @@ from typing import TYPE_CHECKING
 
 import click
 
+from protolint.data.rawfile import LIMITS_HELP as DATA_LIMITS
+
 from protolint.commands._shared import emit, to_json
 from protolint.commands.base import ProtolintCommand
 from protolint.data.options import TABLE_ROLES, reader_options
@@ -14,7 +16,7 @@ if TYPE_CHECKING:
     from protolint.data import ReadOptions
 
 
-@click.command("consistency", cls=ProtolintCommand)
+@click.command("consistency", cls=ProtolintCommand, epilog=DATA_LIMITS)
 @click.argument("items", metavar="ITEMS.csv", type=click.Path(dir_okay=False))
 @click.option("--confidence", type=float, default=0.95, show_default=True, help="Confidence level of the interval.")
 @click.option("--format", "fmt", type=click.Choice(("text", "json")), default="text", show_default=True, help="Output format.")

@@ -6,6 +6,8 @@ from typing import Any
 
 import click
 
+from protolint.analysis.design import LIMITS_HELP as DESIGN_LIMITS
+
 from protolint import CAUTION
 from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
@@ -112,7 +114,7 @@ def render_text(report: dict[str, Any]) -> str:
 
 
 
-@click.command("design", cls=ProtolintCommand)
+@click.command("design", cls=ProtolintCommand, epilog=DESIGN_LIMITS)
 @click.argument("pilot", type=click.Path(dir_okay=True))
 @click.option("--plan", "plan_file", type=click.Path(), help="Take the comparison, the coefficient and the plan's own design from this plan.")
 @click.option("--design", "design", callback=lambda ctx, param, value: _design_name(value), metavar="[p x r|p x r x o|r:p]",
@@ -199,8 +201,4 @@ def command(
         if fmt == "html":
             emit(render_html(report, paper), output, "HTML design report")
         else:
-            from protolint.atomic import write_atomic
-
-            assert output is not None
-            write_atomic(output, render_pdf(report, paper))
-            click.echo(f"protolint: wrote PDF design report to {output}", err=True)
+            emit(render_pdf(report, paper), output, "PDF design report", binary=True)

@@ -9,8 +9,11 @@ from typing import TYPE_CHECKING
 
 import click
 
+from protolint.data.rawfile import LIMITS_HELP as DATA_LIMITS
+
 from protolint import CAUTION
 from protolint.commands._shared import OneLineCommand, emit, to_json
+from protolint.commands.base import parse_date_option
 from protolint.data.options import reader_options
 from protolint.errors import ProtolintError
 from protolint.wording import plural
@@ -20,15 +23,6 @@ if TYPE_CHECKING:
     from protolint.data.roles import ReadOptions
 
 FORMATS = ("text", "json", "html", "pdf")
-
-
-def _as_of(ctx: click.Context, param: click.Parameter, value: str | None) -> date | None:
-    if value is None:
-        return None
-    try:
-        return date.fromisoformat(value)
-    except ValueError:
-        raise ProtolintError(f"drift: --as-of {value!r} is not a date (YYYY-MM-DD)") from None
 
 
 def _num(value: float | None, digits: int = 2) -> str:
@@ -136,11 +130,11 @@ def default_output(data: str, fmt: str) -> str | None:
     return f"{PurePath(data).stem}-drift.pdf" if fmt == "pdf" else None
 
 
-@click.command("drift", cls=OneLineCommand)
+@click.command("drift", cls=OneLineCommand, epilog=DATA_LIMITS)
 @click.argument("data", metavar="DATA")
 @click.option("--plan", type=click.Path(dir_okay=False), help="Measurement plan: criteria, intervals, roster and schedule.")
 @click.option("--pool", metavar="ID", help="Only this rater pool.")
-@click.option("--as-of", callback=_as_of, metavar="YYYY-MM-DD", help="Judge as of this date (default: the latest date in DATA).")
+@click.option("--as-of", callback=parse_date_option, metavar="YYYY-MM-DD", help="Judge as of this date (default: the latest date in DATA).")
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True, help="Output format.")
 @click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write to this file (PDF default: <data-stem>-drift.pdf).")
 @click.option("--min-icc", type=float, help="Certification: minimum ICC(A,1) against the reference "
@@ -207,22 +201,19 @@ def command(data: str, plan: str | None, pool: str | None, as_of: date | None, f
     if fmt in ("html", "pdf"):
         from protolint.render.drift_report import render_drift
 
-        from pathlib import Path
+        from protolint.data.rawfile import decode_text, read_limited
+        from protolint.data.where import DataError
 
+        try:
+            attachment = decode_text(read_limited(data)) if fmt == "pdf" else None
+        except DataError:
+            attachment = None  # a workbook or transport file is not text; the PDF names it only
         plan_model = loaded.plan if loaded else None
-        document = render_drift(report, fmt, Path(data).read_text(encoding="utf-8-sig"),
+        document = render_drift(report, fmt, attachment,
                                 study_title=plan_model.study.title if plan_model else None,
                                 sponsor=plan_model.study.sponsor if plan_model else None)
         target = output or default_output(data, fmt)
-        if isinstance(document, bytes):
-            if target is None:
-                raise ProtolintError("drift: give --output for a PDF")
-            from protolint.atomic import write_atomic
-
-            write_atomic(target, document)
-            click.echo(f"protolint: wrote drift report (pdf) to {target}", err=True)
-        else:
-            emit(document, target, "drift report (html)")
+        emit(document, target, f"drift report ({fmt})", binary=fmt == "pdf")
     else:
         emit(to_json(report.to_json()) if fmt == "json" else render_text(report), output, f"drift report ({fmt})")
     if report.needs_action(fail_on):

@@ -97,7 +97,7 @@ def command(kind: str, plan: str, fmt: str, output: str | None, paper: str, site
       protolint render checklist plan.yaml --site S01 --output S01-checklist.pdf
       protolint render binder plan.yaml --policy sponsor-policy.yaml --as-of 2026-09-01 --final
     """
-    from protolint.atomic import write_atomic
+    from protolint.commands._shared import emit
     from protolint.plan import read_plan_file
     from protolint.render import render
     from protolint.render.document import document_check
@@ -116,12 +116,6 @@ def command(kind: str, plan: str, fmt: str, output: str | None, paper: str, site
     finally:
         if progress is not None:
             progress.done()
-    if target is None or target == "-":
-        if isinstance(document, bytes):
-            sys.stdout.buffer.write(document)
-            sys.stdout.buffer.flush()
-        else:
-            click.echo(document, nl=not document.endswith("\n"))
-        return
-    write_atomic(target, document)
-    click.echo(f"protolint: wrote {kind} ({fmt}) to {target}", err=True)
+    if isinstance(document, str) and target in (None, "-") and not document.endswith("\n"):
+        document += "\n"
+    emit(document, target, f"{kind} ({fmt})", binary=fmt == "pdf")

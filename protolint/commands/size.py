@@ -4,11 +4,13 @@ from __future__ import annotations
 
 import click
 
+from protolint.analysis.size import LIMITS_HELP as SIZE_LIMITS
+
 from protolint.commands.base import ProtolintCommand
 from protolint.errors import ProtolintError
 
 
-@click.command("size", cls=ProtolintCommand)
+@click.command("size", cls=ProtolintCommand, epilog=SIZE_LIMITS)
 @click.option("--effect-size", type=float, help="True-score standardised difference d (two-group) or correlation r (correlation).")
 @click.option("--difference", type=float, help="Difference in means, with --sd, instead of --effect-size.")
 @click.option("--sd", type=float, help="Standard deviation of the outcome, with --difference.")

@@ -17,27 +17,46 @@ import re
 from typing import Any
 
 from protolint.data.source import LINE, RECORD, Cell, SourceTable
-from protolint.data.where import DataError, Where, file_error
+from protolint.data.rawfile import MAX_CELLS, decode_text, read_limited, too_many_cells
+from protolint.data.where import DataError, Where
 
 _VERSION_1_1 = re.compile(r"^1\.1(\.(0|[1-9][0-9]*))?$")
 
 
+class _NotANumber(ValueError):
+    pass
+
+
+def _refuse_constant(name: str) -> Any:
+    # Python's json module reads NaN, Infinity and -Infinity, which JSON itself does not have.
+    raise _NotANumber(f"{name} is not JSON (JSON has no NaN or Infinity; write null for a missing value)")
+
+
+def _integer(text: str) -> Any:
+    # A very long integer would exceed Python's 4,300-digit conversion limit; as a float it
+    # becomes infinity or a huge number, which the number checks then refuse with a place.
+    return int(text) if len(text) <= 18 else float(text)
+
+
 def _load(path: str, text: str, line: int | None = None) -> Any:
     try:
-        return json.loads(text)
+        return json.loads(text, parse_constant=_refuse_constant, parse_int=_integer)
     except json.JSONDecodeError as error:
         place = f"{line}:{error.colno}" if line is not None else f"{error.lineno}:{error.colno}"
         raise DataError(Where(path, place), f"not valid JSON: {error.msg}") from None
+    except _NotANumber as error:
+        raise DataError(Where(path, str(line)) if line is not None else Where(path), str(error)) from None
     except RecursionError:
         raise DataError(Where(path), "JSON nested too deeply") from None
 
 
 def _read_text(path: str) -> str:
-    try:
-        with open(path, encoding="utf-8-sig") as stream:
-            return stream.read()
-    except (OSError, UnicodeDecodeError) as error:
-        raise file_error(path, error) from None
+    raw = read_limited(path)
+    # Every value is at least one byte plus a comma: more commas than cells allowed means
+    # more cells than the bound, refused before the parser builds them.
+    if raw.data.count(b",") > MAX_CELLS:
+        raise too_many_cells(Where(path))
+    return decode_text(raw)
 
 
 def _check_metadata(path: str, meta: Any, where: Where) -> tuple[str, tuple[str, ...], int]:

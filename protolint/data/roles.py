@@ -172,6 +172,11 @@ def select_rows(source: SourceTable, options: ReadOptions, wanted: tuple[str, ..
                 hint = ("; SDTM QS keeps the evaluator in QSEVALID or QSEVAL, and a personal rater id in a "
                         "supplemental dataset: merge it in and name it with --rater")
             raise DataError(source.header_where(), f"no column for the {role} ({ROLE_HELP[role]}): name it with --{role}{hint}")
+    for role, column in roles.items():
+        name = source.header[column]
+        if sum(1 for header in source.header if header.casefold() == name.casefold()) > 1:
+            raise DataError(source.header_where(), f"column {name!r} ({role}) appears more than once in the header; "
+                                                   "rename one so the column to read is clear")
     conditions = parse_conditions(source, options.where)
     status = NOT_DONE.get(options.preset or "")
     status_column = _optional_column(source, status[0]) if status else None
@@ -179,7 +184,10 @@ def select_rows(source: SourceTable, options: ReadOptions, wanted: tuple[str, ..
     counts: Counter[str] = Counter()
     kept: list[int] = []
     filter_reason = "not selected by --where " + " ".join(c.text() for c in conditions) if conditions else ""
+    width = len(source.header)
     for index, cells in enumerate(source.rows):
+        if len(cells) != width:
+            raise DataError(source.where(index), f"row has {len(cells)} field(s), the header has {width}")
         if conditions and not _selected(cells, conditions):
             counts[filter_reason] += 1
         elif status and status_column is not None and cell_text(cells[status_column]).upper() == status[1]:

@@ -7,7 +7,10 @@ each row in the file, so later steps can locate every error.
 
 from __future__ import annotations
 
+import math
+import re
 from dataclasses import dataclass
+from datetime import date
 from typing import Union
 
 from protolint.data.where import Where
@@ -81,3 +84,72 @@ def cell_text(cell: Cell) -> str:
     if isinstance(cell, float):
         return str(int(cell)) if cell.is_integer() else repr(cell)
     return cell
+
+
+# The one grammar of a number in a data file: ASCII digits, an optional sign, decimal point
+# and exponent. Python's float() would also take "1_00", full-width digits, "nan", "inf" and
+# "infinity", none of which an export means as a rating.
+_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?", re.ASCII)
+
+# Larger magnitudes are refused: no rating scale, count or laboratory value in a rated outcome
+# comes near, and the statistics square their mean squares (an ICC interval's Satterthwaite
+# degrees of freedom hold fourth powers of the scores), which overflows long before the
+# largest float: 1e99 already gives infinity there. 1e15 keeps fourth powers near 1e60.
+MAX_MAGNITUDE = 1e15
+
+
+def shown_text(text: str, most: int = 40) -> str:
+    """``text`` quoted for a message, shortened when long (a 5,000-digit cell stays one short line)."""
+    if len(text) <= most:
+        return repr(text)
+    return f"{text[:most]!r}… ({len(text):,} characters)"
+
+
+def is_number_text(text: str) -> bool:
+    """True when ``text`` is written as a number (finite or not, in range or not)."""
+    return _NUMBER.fullmatch(text) is not None
+
+
+def parse_number(cell: Cell) -> float:
+    """The number in ``cell`` (text by the strict grammar, or a number a binary format stored).
+
+    Raises
+    ------
+    ValueError
+        With the reason in words: not a number, or beyond ±1e15.
+    """
+    if cell is None:
+        raise ValueError("empty")
+    if isinstance(cell, float):
+        value = cell
+    else:
+        if not _NUMBER.fullmatch(cell):
+            lowered = cell.strip().lower()
+            if lowered in ("nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"):
+                raise ValueError(f"{shown_text(cell)} is not a finite number")
+            raise ValueError(f"{shown_text(cell)} is not a number")
+        value = float(cell)
+    if not math.isfinite(value) or abs(value) > MAX_MAGNITUDE:
+        shown = f"{value:g}" if isinstance(cell, float) else shown_text(cell)
+        raise ValueError(f"{shown} is beyond ±1e15, outside any rating scale")
+    return value
+
+
+_ISO_DATE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
+
+
+def parse_date(text: str) -> date:
+    """A calendar date written exactly YYYY-MM-DD (Python's ``date.fromisoformat`` would also
+    take ``20260715`` and week dates such as ``2026-W01-1``).
+
+    Raises
+    ------
+    ValueError
+        When the text has another form or names no real date.
+    """
+    if not _ISO_DATE.fullmatch(text):
+        raise ValueError(f"{text!r} is not a date written YYYY-MM-DD")
+    try:
+        return date.fromisoformat(text)
+    except ValueError as error:
+        raise ValueError(f"{text!r} is not a date ({error})") from None

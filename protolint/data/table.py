@@ -12,7 +12,6 @@ categories, and the checks on each column.
 
 from __future__ import annotations
 
-import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -21,7 +20,7 @@ from numpy.typing import NDArray
 
 from protolint.data.provenance import Provenance
 from protolint.data.roles import ReadOptions, select_rows
-from protolint.data.source import Cell, SourceTable, cell_text
+from protolint.data.source import Cell, SourceTable, cell_text, is_number_text, parse_number
 from protolint.data.text import OTHER_DELIMITERS
 from protolint.data.where import DataError, Where
 
@@ -182,27 +181,19 @@ def long_rows(source: SourceTable, options: ReadOptions, column_role: str, unit_
 # --- coding -----------------------------------------------------------------------------
 
 def _number(cell: Cell, grid: _Grid, i: int, j: int, column: str, scale_note: str) -> float:
-    if isinstance(cell, float):
-        value = cell
-    else:
-        try:
-            value = float(str(cell))
-        except ValueError:
-            raise DataError(grid.place(i, j), f"column {column!r}: {cell!r} is not a number{scale_note}; leave the cell "
-                                     "empty for a missing value") from None
-    if not math.isfinite(value):
-        raise DataError(grid.place(i, j), f"column {column!r}: {cell_text(cell)!r} is not a finite number")
-    return value
+    try:
+        return parse_number(cell)
+    except ValueError as error:
+        reason = str(error)
+        if reason.endswith("is not a number"):
+            reason += f"{scale_note}; leave the cell empty for a missing value"
+        raise DataError(grid.place(i, j), f"column {column!r}: {reason}") from None
 
 
 def _is_text(cell: Cell) -> bool:
-    if cell is None or isinstance(cell, float):
-        return False
-    try:
-        float(cell)
-    except ValueError:
-        return True
-    return False
+    # A category label: text that is not written as a number ("nan" and "1_00" are labels
+    # on a nominal scale, never numbers).
+    return isinstance(cell, str) and not is_number_text(cell)
 
 
 def code_cells(grid: _Grid, columns: tuple[str, ...], numeric: bool, scale: str | None) -> tuple[NDArray[np.float64], tuple[str, ...] | None]:

@@ -3,9 +3,11 @@
 from __future__ import annotations
 
 import csv
+import io
 
+from protolint.data.rawfile import MAX_CELLS, decode_text, read_limited, too_many_cells
 from protolint.data.source import LINE, Cell, SourceTable
-from protolint.data.where import DataError, Where, file_error
+from protolint.data.where import DataError, Where
 
 # Delimiters people paste by mistake; naming the one found makes the error actionable.
 OTHER_DELIMITERS = {";": "semicolon", "\t": "tab", "|": "vertical bar"}
@@ -20,18 +22,19 @@ def read_text(path: str, delimiter: str = ",") -> SourceTable:
     kind = "tab-separated" if delimiter == "\t" else "comma-separated"
     rows: list[tuple[Cell, ...]] = []
     numbers: list[int] = []
+    text = decode_text(read_limited(path))
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter, strict=True)
+    cells = 0
     try:
-        with open(path, encoding="utf-8-sig", newline="") as stream:
-            reader = csv.reader(stream, delimiter=delimiter, strict=True)
-            try:
-                for row in reader:
-                    if row and any(cell.strip() for cell in row):
-                        rows.append(tuple(cell.strip() or None for cell in row))
-                        numbers.append(reader.line_num)
-            except csv.Error as error:
-                raise DataError(Where(path, str(reader.line_num)), f"malformed CSV: {error}") from None
-    except (OSError, UnicodeDecodeError) as error:
-        raise file_error(path, error) from None
+        for row in reader:
+            if row and any(cell.strip() for cell in row):
+                cells += len(row)
+                if cells > MAX_CELLS:
+                    raise too_many_cells(Where(path, str(reader.line_num)))
+                rows.append(tuple(cell.strip() or None for cell in row))
+                numbers.append(reader.line_num)
+    except csv.Error as error:
+        raise DataError(Where(path, str(reader.line_num)), f"malformed CSV: {error}") from None
     if not rows:
         raise DataError(Where(path, "1"), "the file is empty; expected a header row")
     header = tuple(str(cell or "") for cell in rows[0])

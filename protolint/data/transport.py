@@ -10,10 +10,12 @@ from __future__ import annotations
 import datetime as dt
 import math
 import os
+import stat
 from typing import Any
 
 from protolint.data.source import RECORD, Cell, SourceTable
-from protolint.data.where import DataError, Where
+from protolint.data.rawfile import MAX_CELLS, MAX_DATA_BYTES, mib, too_many_cells
+from protolint.data.where import DataError, Where, file_error
 
 _V5_HEADER = b"HEADER RECORD*******LIBRARY HEADER RECORD!!!!!!!"
 _V8_HEADER = b"HEADER RECORD*******LIBV8   HEADER RECORD!!!!!!!"
@@ -38,13 +40,18 @@ def _cell(value: Any) -> Cell:
 def read_transport(path: str) -> SourceTable:
     """The first (normally the only) dataset of a SAS transport file."""
     try:
-        size = os.path.getsize(path)
+        info = os.stat(path)
+        if stat.S_ISDIR(info.st_mode):
+            raise DataError(Where(path), "is a directory, expected a data file")
+        if not stat.S_ISREG(info.st_mode):
+            raise DataError(Where(path), "not a regular file; a SAS transport file must be a file on disk")
+        size = info.st_size
         with open(path, "rb") as stream:
             head = stream.read(80)
-    except FileNotFoundError:
-        raise DataError(Where(path), "no such file") from None
     except OSError as error:
-        raise DataError(Where(path), f"cannot read: {error.strerror}") from None
+        raise file_error(path, error) from None
+    if size > MAX_DATA_BYTES:
+        raise DataError(Where(path), f"the file is larger than {mib(MAX_DATA_BYTES)}, the most a data file may hold")
     if head.startswith(_V8_HEADER):
         version = "8"
     elif head.startswith(_V5_HEADER):
@@ -57,12 +64,17 @@ def read_transport(path: str) -> SourceTable:
     import pyreadstat
 
     try:
-        data, meta = pyreadstat.read_xport(path, output_format="dict")
-    except pyreadstat.ReadstatError as error:
-        raise DataError(Where(path), f"damaged SAS transport file (ReadStat: {error})") from None
+        _, about = pyreadstat.read_xport(path, metadataonly=True, output_format="dict")
+        width = max(1, len(about.column_names or ()))
+        most_rows = MAX_CELLS // width
+        data, meta = pyreadstat.read_xport(path, output_format="dict", row_limit=most_rows + 1)
+    except Exception as error:  # ReadstatError, and others from a damaged file
+        raise DataError(Where(path), f"damaged SAS transport file (ReadStat: {type(error).__name__}: {error})") from None
     names = tuple(str(name) for name in data)
     columns = [data[name] for name in data]
     count = len(columns[0]) if columns else 0
+    if count > most_rows:
+        raise too_many_cells(Where(path, f"row {count}"))
     rows = tuple(tuple(_cell(column[i]) for column in columns) for i in range(count))
     detail = f"SAS transport v{version}, dataset {meta.table_name or 'unnamed'}"
     return SourceTable(path=path, format="xpt", detail=detail, header=names, rows=rows,

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 from protolint.errors import LocatedError, ProtolintError
@@ -21,14 +22,25 @@ class Where:
             return f"{self.file}:0:0"
         return f"{self.file}:{self.place}:0" if self.place.isdigit() else f"{self.file}:{self.place}"
 
+    @property
+    def line(self) -> int:
+        """The line of a text place (``12`` or ``12:5``), else 0."""
+        found = _LINE_COLUMN.fullmatch(self.place)
+        return int(found.group(1)) if found else 0
+
+
+# A text place: a line, or a line and a 1-based column.
+_LINE_COLUMN = re.compile(r"([0-9]+)(?::([0-9]+))?")
+
 
 class DataError(LocatedError):
     """Bad input data: ``<where>: <message>``, exit code 2, no traceback."""
 
     def __init__(self, where: Where, message: str) -> None:
         self.file = where.file
-        self.line = int(where.place) if where.place.isdigit() else 0
-        self.column = 0
+        self.line = where.line
+        found = _LINE_COLUMN.fullmatch(where.place)
+        self.column = int(found.group(2)) if found and found.group(2) else 0
         self.reason = message
         self.where = where
         ProtolintError.__init__(self, f"{where}: {message}")

@@ -9,12 +9,15 @@ value, so reading them would silently empty the others.
 from __future__ import annotations
 
 import datetime as dt
+import os
 import re
+import stat
 import zipfile
 from typing import Any
 
 from protolint.data.source import SHEET, Cell, SourceTable, column_letter
-from protolint.data.where import DataError, Where
+from protolint.data.rawfile import MAX_CELLS, MAX_DATA_BYTES, mib, too_many_cells
+from protolint.data.where import DataError, Where, file_error
 
 
 def _cell(value: Any) -> Cell:
@@ -55,17 +58,58 @@ def _rows(sheet: Any) -> Any:
     return enumerate(sheet.iter_rows(min_row=1, min_col=1, values_only=True), start=1)
 
 
+# A workbook is a zip archive of XML; what it unpacks to is bounded as well as the file, so a
+# small archive that inflates to gigabytes (a "zip bomb") is refused before openpyxl reads it.
+MAX_UNPACKED_BYTES = 8 * MAX_DATA_BYTES
+
+
+def _check_archive(path: str) -> None:
+    try:
+        info = os.stat(path)
+    except OSError as error:
+        raise file_error(path, error) from None
+    if stat.S_ISDIR(info.st_mode):
+        raise DataError(Where(path), "is a directory, expected a data file")
+    if not stat.S_ISREG(info.st_mode):
+        raise DataError(Where(path), "not a regular file; an .xlsx workbook must be a file on disk")
+    if info.st_size > MAX_DATA_BYTES:
+        raise DataError(Where(path), f"the file is larger than {mib(MAX_DATA_BYTES)}, the most a data file may hold")
+    try:
+        with zipfile.ZipFile(path) as archive:
+            unpacked = sum(member.file_size for member in archive.infolist())
+    except (zipfile.BadZipFile, OSError, ValueError) as error:
+        raise DataError(Where(path), f"not a readable .xlsx workbook ({error})") from None
+    if unpacked > MAX_UNPACKED_BYTES:
+        raise DataError(Where(path), f"the workbook unpacks to {mib(unpacked)}, more than {mib(MAX_UNPACKED_BYTES)}; "
+                                     "save the data as CSV or select the rows to analyse")
+
+
+def _checked_rows(path: str, sheet: Any) -> Any:
+    # A damaged worksheet's XML fails only while its rows are read.
+    rows = _rows(sheet)
+    while True:
+        try:
+            item = next(rows)
+        except StopIteration:
+            return
+        except Exception as error:
+            raise DataError(Where(path), f"not a readable .xlsx workbook ({type(error).__name__}: {error})") from None
+        yield item
+
+
 def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
     """The rows of one worksheet (``sheet``, default the first)."""
     import openpyxl
+
+    _check_archive(path)
 
     def load(data_only: bool) -> Any:
         try:
             return openpyxl.load_workbook(path, read_only=True, data_only=data_only)
         except FileNotFoundError:
             raise DataError(Where(path), "no such file") from None
-        except (zipfile.BadZipFile, KeyError, ValueError, OSError) as error:
-            raise DataError(Where(path), f"not a readable .xlsx workbook ({error})") from None
+        except Exception as error:  # openpyxl and its XML parser raise many kinds on a damaged file
+            raise DataError(Where(path), f"not a readable .xlsx workbook ({type(error).__name__}: {error})") from None
 
     book = load(data_only=False)
     names = book.sheetnames
@@ -83,7 +127,11 @@ def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
 
     table: list[tuple[int, list[Cell]]] = []
     formulas: dict[tuple[int, int], str] = {}
-    for number, row in _rows(ws):
+    cells = 0
+    for number, row in _checked_rows(path, ws):
+        cells += len(row)
+        if cells > MAX_CELLS:
+            raise too_many_cells(Where(path, f"{chosen}!{number}:{number}"))
         values: list[Cell] = []
         for column, value in enumerate(row):
             if isinstance(value, str) and value.startswith("="):
@@ -97,7 +145,7 @@ def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
     if formulas:
         # The values the spreadsheet program stored when it last calculated the formulas.
         stored_book = load(data_only=True)
-        for number, row in _rows(stored_book[chosen]):
+        for number, row in _checked_rows(path, stored_book[chosen]):
             for column, value in enumerate(row):
                 if (number, column) in formulas:
                     if value is None:

@@ -91,9 +91,14 @@ def __getattr__(name: str) -> Any:
     module = _EXPORTS.get(name)
     if module is None:
         raise AttributeError(f"module 'protolint.stats' has no attribute {name!r}")
-    value = getattr(importlib.import_module(module), name)
-    globals()[name] = value
-    return value
+    loaded = importlib.import_module(module)
+    # Importing a submodule binds its name in this package (``protolint.stats.icc`` the
+    # module), which would then shadow the function of the same name; every name the module
+    # exports is bound here at once, so ``stats.icc`` is the function whichever name came first.
+    for exported, source in _EXPORTS.items():
+        if source == module:
+            globals()[exported] = getattr(loaded, exported)
+    return globals()[name]
 
 
 def __dir__() -> list[str]:

@@ -6,6 +6,8 @@ F test of H0: ICC = 0 and the exact confidence interval of McGraw & Wong (1996).
 
 from __future__ import annotations
 
+import math
+
 from dataclasses import dataclass
 
 import numpy as np
@@ -192,15 +194,26 @@ def icc(ratings: ArrayLike, confidence: float = 0.95) -> IccResult:
     fl1, fu1 = exact_bounds(f1, df_r, df_w)
     fl3, fu3 = exact_bounds(f3, df_r, df_e)
 
+    # The absolute-agreement denominators estimate a variance (subject + rater + error, per
+    # rating or per mean of k) from mean squares with MSE subtracted, so on degenerate data they
+    # can be zero or negative: the form is then undefined (NaN), never the huge number a rounding
+    # residue gives or a "reliability" above 1 from a negative over a negative.
+    size = msr + msc + mse
+
+    def ratio(numerator: float, denominator: float) -> float:
+        return numerator / denominator if denominator > 1e-12 * size else float("nan")
+
     icc1 = (msr - msw) / (msr + (k - 1) * msw)
-    icc2 = (msr - mse) / (msr + (k - 1) * mse + k * (msc - mse) / n)
+    icc2 = ratio(msr - mse, msr + (k - 1) * mse + k * (msc - mse) / n)
     icc3 = (msr - mse) / (msr + (k - 1) * mse)
     icc1k = (msr - msw) / msr
-    icc2k = (msr - mse) / (msr + (msc - mse) / n)
+    icc2k = ratio(msr - mse, msr + (msc - mse) / n)
     icc3k = (msr - mse) / msr
 
     # Absolute agreement: Satterthwaite degrees of freedom (McGraw & Wong 1996, Table 7, case A).
-    if icc2 >= 1.0:
+    if math.isnan(icc2):
+        lo2, hi2 = float("nan"), float("nan")
+    elif icc2 >= 1.0:
         lo2, hi2 = 1.0, 1.0
     else:
         a = k * icc2 / (n * (1.0 - icc2))
@@ -213,6 +226,8 @@ def icc(ratings: ArrayLike, confidence: float = 0.95) -> IccResult:
     # ICC(A,k): McGraw & Wong's case-A k-form bounds, identical to the Spearman-Brown step-up.
     lo2k = k * lo2 / (1.0 + (k - 1) * lo2)
     hi2k = k * hi2 / (1.0 + (k - 1) * hi2)
+    if math.isnan(icc2k):
+        lo2k = hi2k = float("nan")
 
     test1 = FTest(float(f1), float(df_r), float(df_w), p1)
     test3 = FTest(float(f3), float(df_r), float(df_e), p3)

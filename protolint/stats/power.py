@@ -366,7 +366,9 @@ def sample_size_two_group(
 
         # Normal approximation n1 = (z_a + z_b)^2 (1 + 1/ratio) / d^2 as the starting point.
         z_sum = float(special.ndtri(1.0 - a / s)) + float(special.ndtri(target))
-        start = z_sum**2 * (1.0 + 1.0 / r) / d**2
+        # An observed effect so small that d**2 underflows (d = 0.5 at reliability 5e-324) needs
+        # more participants than any trial: the same answer as a start beyond _MAX_N.
+        start = z_sum**2 * (1.0 + 1.0 / r) / d**2 if d * d > 0.0 else math.inf
         whole, exact = _smallest_n(lambda v: _t_power(v, max(r * v, 2.0), d, a, s), target, start, 2)
         # The whole-number search above uses the continuous n2 = ratio * n1; with n2 rounded up the
         # power can only be higher, so step down while the rounded design still reaches the target.
@@ -587,7 +589,9 @@ def sample_size_correlation(
     z_sum = float(special.ndtri(1.0 - a / s)) + float(special.ndtri(target))
 
     def solve(rr: float) -> tuple[int, float]:
-        exact = (z_sum / math.atanh(abs(rr))) ** 2 + 3.0
+        z_r = math.atanh(abs(rr))
+        # A correlation that underflows to 0 (or nearly) would divide by zero or overflow the square.
+        exact = (z_sum / z_r) ** 2 + 3.0 if z_r > 1e-100 else math.inf
         if exact > _MAX_N:
             raise SolverError(f"the target power needs more than {_MAX_N:,} participants; the correlation is too weak")
         n = max(4, math.ceil(round(exact, 9)))
