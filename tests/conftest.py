@@ -15,6 +15,16 @@ DEMO_PLAN = REPO / "demo_protocol" / "plan.yaml"
 STARTER_PLAN = REPO / "templates" / "starter-plan.yaml"
 
 
+def write_demo_plan(path: Path, text: str) -> Path:
+    """Write an edited demo plan to ``path`` with the demo's SOP texts beside it: the plan names
+    them by paths relative to its own folder, so a copy elsewhere needs them too."""
+    import shutil
+
+    path.write_text(text, encoding="utf-8")
+    shutil.copytree(DEMO_PLAN.parent / "sops", path.parent / "sops", dirs_exist_ok=True)
+    return path
+
+
 @pytest.fixture
 def repo_root() -> Path:
     return REPO

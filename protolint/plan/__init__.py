@@ -3,7 +3,8 @@
 The derived facts of a plan live beside the loader, as pure functions of the typed model:
 ``timeline`` (rating dates), ``monitoring`` (monitoring rounds, recertification dates, rating
 spans per pool and site), ``reliability`` (the reliability the trial can expect from its
-evidence) and ``formulas`` (the closed-form formulas applied to plan numbers). Nothing in this
+evidence) and ``formulas`` (the closed-form formulas applied to plan numbers); ``sop_texts`` reads the SOP texts
+the plan points to, confined to the plan's folder. Nothing in this
 package imports the rules, the documents or the commands.
 """
 
@@ -18,9 +19,10 @@ from protolint.plan.limits import size_problems
 from protolint.plan.model import Plan, build_plan
 from protolint.plan.references import reference_findings
 from protolint.plan.schema import schema_findings
+from protolint.plan.sop_texts import SopText, read_sop_texts
 from protolint.plan.source import LoadedSource, load_source, read_limited
 
-__all__ = ["LoadedPlan", "Plan", "load_plan", "read_plan_file", "read_source"]
+__all__ = ["LoadedPlan", "Plan", "SopText", "load_plan", "read_plan_file", "read_source"]
 
 
 @dataclass(frozen=True)
@@ -29,6 +31,8 @@ class LoadedPlan:
     problems: tuple[Finding, ...]
     """Schema and reference findings, in the order of the file; when there are any, ``plan`` is None."""
     plan: Plan | None
+    sop_texts: tuple[SopText, ...] = ()
+    """The SOP texts the plan points to (``sops[].text_file``), read from the plan's folder."""
 
 
 def read_source(file: str) -> LoadedSource:
@@ -45,12 +49,13 @@ def read_source(file: str) -> LoadedSource:
 def load_plan(source: LoadedSource) -> LoadedPlan:
     """Validate ``source`` and build the typed plan when nothing is wrong with it.
 
-    Reference problems are looked for even when the schema finds problems, so one run shows
-    both; the typed plan is built only from data with neither, and handed on only when what it
-    multiplies (monitoring rounds, sign-off rows, calendar events) stays within
+    Reference problems and SOP text files are looked at even when the schema finds problems,
+    so one run shows every kind; the typed plan is built only from data with none, and handed on
+    only when what it multiplies (monitoring rounds, sign-off rows, calendar events) stays within
     :mod:`protolint.plan.limits`.
     """
-    problems = (*schema_findings(source), *reference_findings(source))
+    texts, text_problems = read_sop_texts(source)
+    problems = (*schema_findings(source), *reference_findings(source), *text_problems)
     if problems:
         return LoadedPlan(source, tuple(sorted(problems, key=Finding.sort_key)), None)
     plan = build_plan(source.data)
@@ -58,7 +63,7 @@ def load_plan(source: LoadedSource) -> LoadedPlan:
                       for problem in size_problems(plan))
     if oversized:
         return LoadedPlan(source, oversized, None)
-    return LoadedPlan(source, (), plan)
+    return LoadedPlan(source, (), plan, texts)
 
 
 def read_plan_file(file: str) -> LoadedPlan:

@@ -392,6 +392,10 @@ class Sop:
     covers: Coverage | None = None
     summary: str | None = None
     revisions: tuple[Revision, ...] = ()
+    text_file: str | None = None
+    """Path of the SOP's full text (Markdown), relative to the plan's folder; read by ``plan.sop_texts``."""
+    location: str | None = None
+    """Where the controlled copy is kept, for an SOP whose text the plan does not include."""
 
 
 @dataclass(frozen=True)

@@ -1,8 +1,11 @@
-"""The SOP binder: every SOP with its sign-off sheets, the revision history, the sample-size
-appendix and the check appendix (the plan's findings, from the one check pipeline)."""
+"""The SOP binder: every SOP with its summary page, its full text when the plan points to one
+(read by ``plan.sop_texts``; its SHA-256 goes into the document control) and its sign-off
+sheets, the revision history, the sample-size appendix and the check appendix (the plan's
+findings, from the one check pipeline)."""
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 from datetime import date
 from typing import Any, Callable
@@ -11,7 +14,8 @@ from protolint.plan import LoadedPlan
 from protolint.plan.model import Endpoint, Plan, RaterPool, Sop
 from protolint.plan.monitoring import pool_spans
 from protolint.plan.limits import MIN_SIGNOFF_ROWS  # the one definition: the size limits count with it
-from protolint.render.document import DocumentCheck, DocumentControl, Fact, document_check, document_control, valid_plan
+from protolint.plan.sop_texts import SopText, text_for
+from protolint.render.document import DocumentCheck, DocumentControl, Fact, IncludedFile, document_check, document_control, valid_plan
 from protolint.render.environment import number, words
 from protolint.render.phrases import join_or, sop_status_text
 
@@ -30,6 +34,17 @@ class SignOffSheet:
 
 
 @dataclass(frozen=True)
+class SopFullText:
+    """An SOP's own text as the binder prints it: Markdown (untrusted; the templates render it
+    through the safe Markdown filters) and the file it came from."""
+
+    path: str
+    sha256: str
+    size: int
+    markdown: str
+
+
+@dataclass(frozen=True)
 class SopSection:
     id: str
     title: str
@@ -38,6 +53,9 @@ class SopSection:
     approvals: tuple[Fact, ...]
     summary: str | None
     sheets: tuple[SignOffSheet, ...]
+    text: SopFullText | None = None
+    location: str | None = None
+    """Where the controlled copy is kept (shown with or without the text)."""
 
 
 @dataclass(frozen=True)
@@ -105,7 +123,7 @@ def signoff_sheet(plan: Plan, pool: RaterPool) -> SignOffSheet:
     return SignOffSheet(pool.label, rows, blank)
 
 
-def _sop_section(plan: Plan, sop: Sop, day: date) -> SopSection:
+def _sop_section(plan: Plan, sop: Sop, day: date, text: SopText | None = None) -> SopSection:
     covers = sop.covers
     facts = (
         Fact("Version", sop.version),
@@ -119,7 +137,22 @@ def _sop_section(plan: Plan, sop: Sop, day: date) -> SopSection:
     approvals = tuple(Fact(a.name + (f", {a.role}" if a.role else ""), f"{a.date.isoformat()}" + (f" — {a.meaning}" if a.meaning else ""))
                       for a in sop.approvals)
     sheets = tuple(signoff_sheet(plan, pool) for pool in signing_pools(plan, sop))
-    return SopSection(sop.id, sop.title, sop.version, facts, approvals, sop.summary, sheets)
+    return SopSection(sop.id, sop.title, sop.version, facts, approvals, sop.summary, sheets,
+                      full_text(text), sop.location)
+
+
+def full_text(text: SopText | None) -> SopFullText | None:
+    return None if text is None else SopFullText(text.path, text.sha256, text.size, text.text)
+
+
+def included_sop_files(plan: Plan, texts: tuple[SopText, ...]) -> tuple[IncludedFile, ...]:
+    """The document-control rows of the SOP texts the binder prints, in the plan's SOP order."""
+    rows = []
+    for index, sop in enumerate(plan.sops):
+        text = text_for(texts, index)
+        if text is not None:
+            rows.append(IncludedFile(f"{sop.id} version {sop.version} text", text.path, text.sha256))
+    return tuple(rows)
 
 
 @dataclass(frozen=True)
@@ -212,8 +245,9 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
     if reliability >= 1.0:
         note = ("The plan assumes perfect reliability. No rated score is perfectly reliable; the curve "
                 "shows how many participants the same comparison needs at realistic reliabilities.")
+    plan_n = spec.stated_n_total if spec.stated_n_total is not None else at_plan.n_total_enrolled
     svg = sample_size_chart(SampleSizeCurve(
-        tuple(grid), tuple(curve), reliability, at_plan.n_total_enrolled, spec.stated_n_total,
+        tuple(grid), tuple(curve), reliability, plan_n,
         supported.reliability if supported else None, supported.n_total if supported else None))
     convention = ("Classical test theory: the observed standardised effect is d·√ρ, so the analysable N "
                   "grows as 1/ρ. Exact power from the noncentral t distribution. The curve shows the "
@@ -240,8 +274,10 @@ def binder_context(loaded: LoadedPlan, paper: str = "a4",
     if progress:
         progress("running the checks")
     check = check or document_check(loaded)
-    control = document_control(loaded, "binder", paper, check)
-    sops = tuple(_sop_section(plan, sop, control.document_date) for sop in plan.sops)
+    control = dataclasses.replace(document_control(loaded, "binder", paper, check),
+                                  included_files=included_sop_files(plan, loaded.sop_texts))
+    sops = tuple(_sop_section(plan, sop, control.document_date, text_for(loaded.sop_texts, index))
+                 for index, sop in enumerate(plan.sops))
     revisions = tuple(sorted(
         (RevisionRow(f"{sop.id} {sop.title}", rev.version, rev.date, rev.summary or "")
          for sop in plan.sops for rev in sop.revisions),

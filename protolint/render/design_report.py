@@ -16,7 +16,7 @@ from typing import Any
 
 from protolint import CAUTION, __version__
 from protolint.analysis.design import COMPONENT_KEYS, COMPONENT_WORDS, DesignReport
-from protolint.render.charts import _STYLE, _inline_svg
+from protolint.render.charts import MATPLOTLIB_STYLE, inline_svg
 
 _BLUE, _RED, _GOLD, _GREY = "#1f4e79", "#b03a2e", "#7a5c00", "#8a949e"
 
@@ -89,7 +89,7 @@ def _svg(plt: Any, figure: Any, prefix: str) -> str:
         figure.savefig(buffer, format="svg", bbox_inches="tight", metadata={"Date": None})
     finally:
         plt.close(figure)
-    return _ID.sub(lambda m: f"{m.group(1)}{prefix}-{m.group(2)}", _inline_svg(buffer.getvalue()))
+    return _ID.sub(lambda m: f"{m.group(1)}{prefix}-{m.group(2)}", inline_svg(buffer.getvalue()))
 
 
 def components_chart(report: DesignReport) -> str:
@@ -97,7 +97,7 @@ def components_chart(report: DesignReport) -> str:
     import matplotlib
 
     g = report.g
-    with matplotlib.rc_context(_STYLE):  # type: ignore[arg-type]
+    with matplotlib.rc_context(MATPLOTLIB_STYLE):  # type: ignore[arg-type]
         plt, (figure, axes) = _figure(6.2, 0.45 * len(g.components) + 0.8)
         labels = [f"{COMPONENT_KEYS[c.effect]} ({c.effect})" for c in g.components][::-1]
         shares = [g.share(c.effect) * 100 if g.total > 0 else 0.0 for c in g.components][::-1]
@@ -119,7 +119,7 @@ def dstudy_chart(report: DesignReport) -> str:
     rows = report.dstudy
     occasions = sorted({m for _, m, _, _ in rows})
     palette = [_BLUE, _RED, _GOLD, "#2e7d32", "#6a1b9a", "#00838f", "#5d4037", "#ad1457", "#455a64", "#9e9d24"]
-    with matplotlib.rc_context(_STYLE):  # type: ignore[arg-type]
+    with matplotlib.rc_context(MATPLOTLIB_STYLE):  # type: ignore[arg-type]
         plt, (figure, axes) = _figure(6.2, 2.8)
         for index, m in enumerate(occasions):
             ks = [k for k, mm, _, _ in rows if mm == m]
@@ -151,7 +151,7 @@ def frontier_chart(report: DesignReport) -> str:
     opt = report.optimisation
     assert opt is not None
     feasible = [p for p in opt.frontier if p.cost is not None]
-    with matplotlib.rc_context(_STYLE):  # type: ignore[arg-type]
+    with matplotlib.rc_context(MATPLOTLIB_STYLE):  # type: ignore[arg-type]
         plt, (figure, axes) = _figure(6.2, 2.9)
         axes.scatter([p.n_total_enrolled for p in feasible], [p.cost for p in feasible], s=12, color=_GREY,
                      label="design (k raters, m occasions)")

@@ -158,6 +158,16 @@ def library_versions(names: tuple[str, ...] = RENDERING_LIBRARIES) -> tuple[Fact
 
 
 @dataclass(frozen=True)
+class IncludedFile:
+    """A file besides the plan whose content the document prints (an SOP's text), identified
+    in the document-control block by its SHA-256."""
+
+    label: str
+    path: str
+    sha256: str
+
+
+@dataclass(frozen=True)
 class DocumentControl:
     kind: str
     title: str
@@ -179,6 +189,8 @@ class DocumentControl:
     caution: str = CAUTION
     signature_note: str = SIGNATURE_NOTE
     reproducibility: str = REPRODUCIBILITY_CLAIM
+    included_files: tuple[IncludedFile, ...] = ()
+    """Set by the documents that print other files (the binder's SOP texts)."""
 
     @property
     def running_title(self) -> str:

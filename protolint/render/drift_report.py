@@ -16,7 +16,7 @@ from datetime import date
 from typing import TYPE_CHECKING, Any
 
 from protolint import CAUTION, __version__
-from protolint.render.charts import _STYLE, _inline_svg
+from protolint.render.charts import MATPLOTLIB_STYLE, inline_svg
 
 if TYPE_CHECKING:
     from protolint.analysis.drift import DriftReport, RaterResult
@@ -65,7 +65,7 @@ def rater_charts(rater: RaterResult, report: DriftReport) -> str:
     import matplotlib
 
     settings = report.chart.settings
-    with matplotlib.rc_context(_STYLE):  # type: ignore[arg-type]  # matplotlib types keys as a Literal
+    with matplotlib.rc_context(MATPLOTLIB_STYLE):  # type: ignore[arg-type]  # matplotlib types keys as a Literal
         plt, (figure, (chart, ba)) = _figure(7.0, 2.5)
         try:
             days = [r.day for r in rater.rounds]
@@ -125,7 +125,7 @@ def rater_charts(rater: RaterResult, report: DriftReport) -> str:
             figure.savefig(buffer, format="svg", bbox_inches="tight", metadata={"Date": None})
         finally:
             plt.close(figure)
-    return _inline_svg(buffer.getvalue())
+    return inline_svg(buffer.getvalue())
 
 
 _ID = re.compile(r'\bid="([^"]+)"')

@@ -73,6 +73,6 @@ def make_env() -> jinja2.Environment:
         "markdown": markdown_html,
         "markdown_inline": markdown_inline_html,
         "md": lambda value: Markup(md_cell(value)),
-        "md_block": lambda value: Markup(markdown_block(value)),
+        "md_block": lambda value, top_heading=None: Markup(markdown_block(value, top_heading)),
     })
     return env

@@ -43,10 +43,12 @@ def _parser() -> MarkdownIt:
     parser.enable([rule for rule in _BLOCK_RULES + _INLINE_RULES if _known(parser, rule)])
     parser.validateLink = link_allowed  # type: ignore[method-assign]
     # Headings inside plan text must not compete with the document's own headings (and their
-    # PDF bookmarks): shift them below the section that shows the text.
+    # PDF bookmarks): shift them below the section that shows the text. A whole document
+    # shown as a section of ours (an SOP text) keeps its outline: its level-1 headings become
+    # ``top_heading`` and the rest follow, down to h6.
     def heading_open(renderer, tokens, index, options, env):  # noqa: ANN001 - markdown-it's signature
         token = tokens[index]
-        token.tag = "h5" if token.tag in ("h1", "h2", "h3", "h4") else "h6"
+        token.tag = _shifted_tag(int(token.tag[1]), (env or {}).get("top_heading"))
         tokens[index + 2].tag = token.tag
         return renderer.renderToken(tokens, index, options, env)
 
@@ -66,11 +68,23 @@ def _known(parser: MarkdownIt, rule: str) -> bool:
     return any(rule in names for names in chains.values())
 
 
-def markdown_html(text: str | None) -> Markup:
-    """Plan Markdown as safe block HTML (empty Markup for no text)."""
+def _shifted_tag(level: int, top_heading: int | None) -> str:
+    if top_heading is None:
+        return "h5" if level <= 4 else "h6"
+    return f"h{min(6, top_heading + level - 1)}"
+
+
+def markdown_html(text: str | None, top_heading: int | None = None) -> Markup:
+    """Plan Markdown as safe block HTML (empty Markup for no text).
+
+    ``top_heading``: the HTML level (2-6) of the text's level-1 headings, for a text that is a
+    document of its own; without it every heading is h5 or h6, below the document's sections.
+    """
     if not text:
         return Markup("")
-    return Markup(_parser().render(text))
+    if top_heading is not None and not 1 <= top_heading <= 6:
+        raise ValueError(f"top_heading must be between 1 and 6, got {top_heading!r}")
+    return Markup(_parser().render(text, {"top_heading": top_heading}))
 
 
 def markdown_inline_html(text: str | None) -> Markup:
@@ -84,27 +98,52 @@ def markdown_inline_html(text: str | None) -> Markup:
 # The Markdown documents keep plan Markdown as Markdown, but a wiki that renders them may pass
 # raw HTML through or follow any link, so the same safety rules are applied to the text.
 
-_ATX_HEADING = re.compile(r"^ {0,3}#{1,6}[ \t]+", re.MULTILINE)
+_ATX_HEADING = re.compile(r"^( {0,3})(#{1,6})([ \t]+)", re.MULTILINE)
 _LINK_DESTINATION = re.compile(r"\]\(\s*<?([^)\s>]*)")
-# A link reference definition may also open a list item ("- [x]: url", "1. [x]: url", nested
-# at any depth): CommonMark reads it as a definition there too.
-_REFERENCE_DEFINITION = re.compile(r"^((?:[ \t]*(?:[-*+]|[0-9]{1,9}[.)])(?=[ \t]))*[ \t]*\[[^\]]+\]:\s*<?)(\S*)", re.MULTILINE)
+# A link reference definition may open any line of a container (a list item, a block quote),
+# and its destination may follow on the next line: so the label is looked for anywhere.
+_REFERENCE_DEFINITION = re.compile(r"(\[)((?:[^\[\]\\\n]|\\.){1,999}\]:[ \t]*(?:\n[ \t>]*)?<?)(\S*)")
 
 
-def markdown_block(text: str | None) -> str:
+def markdown_block(text: str | None, top_heading: int | None = None) -> str:
     """Plan Markdown made safe to embed in a Markdown document.
 
     Raw HTML and autolinks lose their ``<`` (shown as text), images become plain links, and a
-    link whose destination is not http, https or mailto loses its brackets.
+    link (inline or by a reference definition, wherever it stands) whose destination is not
+    http, https or mailto loses its brackets. The result is then parsed as a permissive
+    CommonMark renderer would (raw HTML on, every link accepted); should anything active be
+    left, every bracket is escaped, so no link survives at all. ``top_heading`` as for
+    :func:`markdown_html` (Markdown heading levels).
     """
     if not text:
         return ""
     safe = text.replace("\r\n", "\n").replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     safe = safe.replace("![", "!\\[")
     safe = _neutralise_links(safe)
+    if not markdown_is_inert(safe):
+        safe = re.sub(r"([\\\[\]])", r"\\\1", safe)
     # Plan headings sit below the document's own sections, as in the HTML edition.
-    safe = _ATX_HEADING.sub("##### ", safe)
+    safe = _ATX_HEADING.sub(lambda m: m.group(1) + "#" * int(_shifted_tag(len(m.group(2)), top_heading)[1]) + m.group(3), safe)
     return safe.strip("\n")
+
+
+@lru_cache(maxsize=1)
+def _permissive_parser() -> MarkdownIt:
+    parser = MarkdownIt("commonmark", {"html": True}).enable(["table", "strikethrough"])
+    parser.validateLink = lambda url: True  # type: ignore[method-assign]  # see every link, to judge it
+    return parser
+
+
+def markdown_is_inert(text: str) -> bool:
+    """True when ``text``, read by a permissive CommonMark renderer (raw HTML on, every link
+    destination accepted), yields no HTML, no image and no link other than http, https or mailto."""
+    for token in _permissive_parser().parse(text):
+        for part in (token, *(token.children or ())):
+            if part.type in ("html_block", "html_inline", "image"):
+                return False
+            if part.type == "link_open" and not link_allowed(str(part.attrGet("href") or "")):
+                return False
+    return True
 
 
 def _neutralise_links(text: str) -> str:
@@ -123,7 +162,7 @@ def _neutralise_links(text: str) -> str:
     out.append(text[position:])
     text = "".join(out)
     return _REFERENCE_DEFINITION.sub(
-        lambda m: m.group(0) if link_allowed(m.group(2)) else m.group(1).replace("[", "\\[", 1) + m.group(2), text)
+        lambda m: m.group(0) if link_allowed(m.group(3)) else "\\[" + m.group(2) + m.group(3), text)
 
 
 # Mid-line text needs only these escaped; line-start markers (#, -, 1.) never occur because

@@ -461,16 +461,15 @@ def _matching_waiver(finding: Finding, waivers: list[Any]) -> WaiverView | None:
 # --- the sample-size chart --------------------------------------------------------------------
 
 _CHART_RULE = "power/unadjusted-for-reliability"
-_W, _H = 640, 320
-_LEFT, _RIGHT, _TOP, _BOTTOM = 64, 28, 16, 48
 
 
 def _sample_size_chart(findings: Sequence[Finding]) -> tuple[str, str]:
     """SVG of participants needed against reliability, for the primary endpoint's sample size.
 
-    Drawn from the facts of the sample-size rule with the same closed-form function the rule
-    used (``rules._working``), so the curve passes through the rule's figure. Only numbers
-    go into the SVG; the caption (plan text) is escaped by the template.
+    Drawn by the documents' one sample-size chart (``render.charts``) from the facts of the
+    sample-size rule, with the same closed-form function the rule used (``plan.formulas``), so
+    the curve passes through the rule's figure. Only numbers go into the SVG; the caption (plan
+    text) is escaped by the template.
     """
     finding = next((f for f in findings if f.rule == _CHART_RULE and f.facts), None)
     if finding is None:
@@ -487,6 +486,7 @@ def _sample_size_chart(findings: Sequence[Finding]) -> tuple[str, str]:
     except (KeyError, TypeError, ValueError):
         return "", ""
     from protolint.plan.formulas import enrolled, n_per_group
+    from protolint.render.charts import SampleSizeCurve, sample_size_chart
 
     def total(rho: float) -> int:
         groups = n_per_group(d_true * math.sqrt(rho), alpha, power, sides, ratio)
@@ -494,45 +494,9 @@ def _sample_size_chart(findings: Sequence[Finding]) -> tuple[str, str]:
 
     low = max(0.05, min(0.3, evidence_rho - 0.1, float(assumed) - 0.1 if assumed else 1.0))
     low = math.floor(low * 10) / 10
-    xs = [low + (1.0 - low) * i / 80 for i in range(81)]
-    curve = [(x, total(x)) for x in xs]
-    top = max(max(n for _, n in curve), stated, needed)
-    y_max = _nice_ceiling(top)
-
-    def px(x: float) -> float:
-        return _LEFT + (x - low) / (1.0 - low) * (_W - _LEFT - _RIGHT)
-
-    def py(n: float) -> float:
-        return _H - _BOTTOM - n / y_max * (_H - _TOP - _BOTTOM)
-
-    parts = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_W} {_H}" role="img" class="chart" '
-             f'aria-labelledby="chart-title"><title id="chart-title">Participants needed against reliability</title>']
-    parts.append(f'<rect x="{_LEFT}" y="{_TOP}" width="{_W - _LEFT - _RIGHT}" height="{_H - _TOP - _BOTTOM}" class="frame"/>')
-    for i in range(6):
-        n = y_max * i / 5
-        parts.append(f'<line x1="{_LEFT}" x2="{_W - _RIGHT}" y1="{py(n):.1f}" y2="{py(n):.1f}" class="grid"/>'
-                     f'<text x="{_LEFT - 6}" y="{py(n) + 4:.1f}" class="tick" text-anchor="end">{int(n):,}</text>')
-    tick = low
-    while tick <= 1.0001:
-        parts.append(f'<text x="{px(tick):.1f}" y="{_H - _BOTTOM + 16}" class="tick" text-anchor="middle">{tick:.1f}</text>')
-        tick = round(tick + 0.1, 10)
-    parts.append(f'<text x="{(_LEFT + _W - _RIGHT) / 2}" y="{_H - 10}" class="axis" text-anchor="middle">'
-                 'reliability of the endpoint as rated</text>')
-    parts.append(f'<text x="14" y="{(_TOP + _H - _BOTTOM) / 2}" class="axis" text-anchor="middle" '
-                 f'transform="rotate(-90 14 {(_TOP + _H - _BOTTOM) / 2})">participants to enrol</text>')
-    path = " ".join(f"{'M' if i == 0 else 'L'}{px(x):.1f},{py(n):.1f}" for i, (x, n) in enumerate(curve))
-    parts.append(f'<path d="{path}" class="curve"/>')
+    xs = tuple(low + (1.0 - low) * i / 80 for i in range(81))
     plan_x = float(assumed) if assumed else 1.0
-    parts.append(f'<line x1="{px(plan_x):.1f}" y1="{py(stated):.1f}" x2="{px(evidence_rho):.1f}" y2="{py(needed):.1f}" class="gap"/>')
-    parts.append(f'<rect x="{px(plan_x) - 6:.1f}" y="{py(stated) - 6:.1f}" width="12" height="12" class="plan-point"/>')
-    parts.append(f'<circle cx="{px(evidence_rho):.1f}" cy="{py(needed):.1f}" r="7" class="evidence-point"/>')
-    label_anchor = "end" if px(plan_x) > _W / 2 else "start"
-    offset = -10 if label_anchor == "end" else 10
-    parts.append(f'<text x="{px(plan_x) + offset:.1f}" y="{py(stated) + 20:.1f}" class="label" text-anchor="{label_anchor}">'
-                 f'plan: {stated:,} at {plan_x:.2f}</text>')
-    parts.append(f'<text x="{px(evidence_rho) + 10:.1f}" y="{py(needed) - 10:.1f}" class="label">'
-                 f'evidence: {needed:,} at {evidence_rho:.2f}</text>')
-    parts.append("</svg>")
+    svg = sample_size_chart(SampleSizeCurve(xs, tuple(total(x) for x in xs), plan_x, stated, evidence_rho, needed))
     assumed_text = f"assumes reliability {plan_x:.2f}" if assumed else "assumes no loss from unreliable ratings"
     caption = (
         f"Endpoint {facts.get('endpoint', '')}: participants to enrol for {power:.0%} power at α = {alpha:g} "
@@ -541,12 +505,4 @@ def _sample_size_chart(findings: Sequence[Finding]) -> tuple[str, str]:
         f"Square: the plan states {stated:,} and {assumed_text}. Circle: evidence {facts.get('evidence', '')} "
         f"supports {evidence_rho:.3f}, for which {needed:,} are needed."
     )
-    return "".join(parts), caption
-
-
-def _nice_ceiling(value: float) -> float:
-    magnitude = 10 ** math.floor(math.log10(max(value, 1)))
-    for step in (1, 2, 2.5, 5, 10):
-        if value <= step * magnitude:
-            return step * magnitude
-    return 10 * magnitude
+    return svg, caption

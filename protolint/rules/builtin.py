@@ -90,6 +90,28 @@ register_builtin("schema/unknown-reference", "error", _SCHEMA_SOURCE, "A referen
 
     **Fails**: `instrument: LSC-8` when the instrument's id is `LSC8`.
     """)
+register_builtin("schema/text-file-outside-folder", "error", _SCHEMA_SOURCE,
+                 "An SOP's text file is not inside the plan's folder.", """
+    An SOP's `text_file` is read into the SOP binder, so it may only name a file in the plan's
+    own folder or below it. An absolute path, a path with `..`, or a symbolic link that leads
+    out of the folder could make a document print a file nobody meant to publish; the file is
+    not read.
+
+    **Passes**: `text_file: sops/SOP-RAT-001.md` beside the plan.
+
+    **Fails**: `text_file: ../other-trial/SOP.md`, `text_file: /etc/passwd`, or a link
+    `sops/SOP.md` that points outside the plan's folder.
+    """)
+register_builtin("schema/text-file-unreadable", "error", _SCHEMA_SOURCE,
+                 "An SOP's text file is missing, too large or not UTF-8 text.", """
+    The file an SOP's `text_file` names must exist, be a regular file (not a folder, a pipe
+    or a device) of at most 512 KiB, and hold UTF-8 text without control characters. A
+    binder must never be filed with an SOP's text silently missing.
+
+    **Passes**: `text_file: sops/SOP-RAT-001.md`, a UTF-8 Markdown file of a few kilobytes.
+
+    **Fails**: a misspelt file name, a file saved as UTF-16, or a 10 MB export.
+    """)
 
 _WAIVER_SOURCE = "common practice (documented exceptions expire and are reviewed)"
 

@@ -16,6 +16,7 @@ from protolint.analysis.drift import Options, analyse, read_ratings
 from protolint.plan import read_plan_file
 from protolint.stats import icc
 from protolint.stats.drift import cusum_arl
+from tests.conftest import write_demo_plan
 
 REPO = Path(__file__).resolve().parents[2]
 DEMO_PLAN = REPO / "demo_protocol" / "plan.yaml"
@@ -96,8 +97,7 @@ def test_amendment_trigger_recertifies(tmp_path: Path) -> None:
     text = DEMO_PLAN.read_text(encoding="utf-8").replace(
         "      effective: 2026-06-30\n      summary: Adds the week-4", "      effective: 2026-10-15\n      summary: Adds the week-4"
     ).replace("affects_instruments: [PHG-5]", "affects_instruments: [HLSC-8]")
-    plan_file = tmp_path / "plan.yaml"
-    plan_file.write_text(text, encoding="utf-8")
+    plan_file = write_demo_plan(tmp_path / "plan.yaml", text)
     rng = np.random.default_rng(2)
     rows = _demo_rows("R-S01-A", "S01", date(2026, 8, 10), 3, 4, 0.0, rng)
     report = analyse(read_ratings(write(tmp_path / "d.csv", rows)), read_plan_file(str(plan_file)), Options(scale_sd=1.0))

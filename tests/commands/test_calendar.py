@@ -11,6 +11,7 @@ from icalendar import Calendar
 from protolint.plan import read_plan_file
 from protolint.render.calendar import dated_duties
 from protolint.plan.monitoring import monitoring_rounds
+from tests.conftest import write_demo_plan
 
 
 @pytest.fixture(autouse=True)
@@ -67,8 +68,7 @@ def test_a_rostered_expiry_date_is_the_recertification_date(demo_plan, tmp_path:
     edited = text.replace('certifications: [{instrument: HLSC-8, version: "1.2", date: 2026-08-10}]',
                           'certifications: [{instrument: HLSC-8, version: "1.2", date: 2026-08-10, expires: 2027-02-10}]')
     assert edited != text
-    plan_file = tmp_path / "plan.yaml"
-    plan_file.write_text(edited, encoding="utf-8")
+    plan_file = write_demo_plan(tmp_path / "plan.yaml", edited)
     duties = [d for d in dated_duties(read_plan_file(str(plan_file)).plan)
               if d.kind == "recertification" and "R-S01-A" in d.summary]
     # 2027-02-10 from the roster, then every 12 months (the pool's interval) until rating ends.

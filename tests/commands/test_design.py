@@ -17,6 +17,7 @@ from protolint.cli import main
 from protolint.stats import power_two_group
 from protolint.stats.gtheory import g_study
 from protolint.wording import plural
+from tests.conftest import write_demo_plan
 
 ROOT = Path(__file__).parents[2]
 BRENNAN = ROOT / "tests" / "data" / "reference" / "A_brennan2001_synthetic3_pxixo_long.csv"
@@ -269,9 +270,7 @@ def test_demo_pilot_is_labelled_simulated() -> None:
 def _plan_with(tmp_path: Path, old: str, new: str) -> Path:
     text = DEMO_PLAN.read_text(encoding="utf-8")
     assert old in text
-    path = tmp_path / "plan.yaml"
-    path.write_text(text.replace(old, new, 1), encoding="utf-8")
-    return path
+    return write_demo_plan(tmp_path / "plan.yaml", text.replace(old, new, 1))
 
 
 def test_plan_design_outside_the_limits_is_evaluated_and_said(tmp_path: Path) -> None:

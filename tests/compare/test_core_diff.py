@@ -12,6 +12,7 @@ from pathlib import Path
 import pytest
 
 from tests.test_core_install import _run, core_venv  # noqa: F401  (the module-scoped venv fixture)
+from tests.conftest import write_demo_plan
 
 REPO = Path(__file__).resolve().parents[2]
 DEMO = REPO / "demo_protocol" / "plan.yaml"
@@ -20,8 +21,7 @@ DEMO = REPO / "demo_protocol" / "plan.yaml"
 @pytest.fixture(scope="module")
 def amended(tmp_path_factory) -> Path:
     path = tmp_path_factory.mktemp("amended") / "amended.yaml"
-    path.write_text(DEMO.read_text(encoding="utf-8").replace("interval_weeks: 52", "interval_weeks: 30"), encoding="utf-8")
-    return path
+    return write_demo_plan(path, DEMO.read_text(encoding="utf-8").replace("interval_weeks: 52", "interval_weeks: 30"))
 
 
 def test_core_diff_text_json_and_markdown(core_venv: Path, amended: Path) -> None:  # noqa: F811

@@ -16,6 +16,7 @@ import pytest
 from protolint.compare import compare_plans
 from protolint.plan import read_source
 from protolint.pipeline import check_source
+from tests.conftest import write_demo_plan
 
 DEMO = Path(__file__).resolve().parents[2] / "demo_protocol" / "plan.yaml"
 DEMO_TEXT = DEMO.read_text(encoding="utf-8")
@@ -43,9 +44,7 @@ def edited(*edits: tuple[str, str]) -> str:
 
 
 def write(tmp_path: Path, name: str, text: str) -> Path:
-    path = tmp_path / name
-    path.write_text(text, encoding="utf-8")
-    return path
+    return write_demo_plan(tmp_path / name, text)
 
 
 def compare(tmp_path: Path, new_text: str, old_text: str = DEMO_TEXT):

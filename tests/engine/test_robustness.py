@@ -65,7 +65,8 @@ def test_schema_valid_mutations_never_crash_the_rules(demo_plan, seed):
     checked = 0
     for _ in range(100):
         text = yaml.safe_dump(mutate(base, rng), sort_keys=False, allow_unicode=True)
-        loaded = load_plan(load_source(text.encode("utf-8"), "mutated.yaml"))
+        # Named as if beside the demo plan, whose SOP texts it names by relative paths.
+        loaded = load_plan(load_source(text.encode("utf-8"), str(demo_plan.parent / "mutated.yaml")))
         if loaded.plan is None:
             continue
         result = check_loaded(loaded)

@@ -5,6 +5,7 @@ from __future__ import annotations
 from protolint.plan import read_plan_file
 from protolint.render.binder import sample_size_appendix
 from protolint.rules.engine import check_loaded
+from tests.conftest import write_demo_plan
 
 
 def facts(appendix) -> dict[str, str]:
@@ -48,8 +49,7 @@ def test_an_observed_effect_is_brought_to_the_true_score_scale_as_the_rule_does(
     edited = text.replace("  effect_size: 0.45\n  effect_basis: true-score\n",
                           "  effect_size: 0.36\n  effect_basis: observed\n  source_reliability: 0.64\n")
     assert edited != text
-    plan_file = tmp_path / "plan.yaml"
-    plan_file.write_text(edited, encoding="utf-8")
+    plan_file = write_demo_plan(tmp_path / "plan.yaml", edited)
     loaded = read_plan_file(str(plan_file))
     table = facts(sample_size_appendix(loaded.plan))
     assert table["Standardised effect as stated"].startswith("0.360 (observed with reliability 0.64")

@@ -10,6 +10,7 @@ from pathlib import Path
 
 from protolint.findings import CheckResult, Finding, Location, PlanResult, Severity
 from protolint.report import render_report
+from tests.conftest import write_demo_plan
 
 HOSTILE = '<script>alert(1)</script> <img src="file:///etc/passwd"> & "quotes"'
 
@@ -187,8 +188,7 @@ def test_changed_file_gets_no_excerpt(demo_plan, tmp_path):
     from protolint.plan import read_plan_file
     from protolint.rules.engine import check_loaded
 
-    copy = tmp_path / "plan.yaml"
-    copy.write_bytes(demo_plan.read_bytes())
+    copy = write_demo_plan(tmp_path / "plan.yaml", demo_plan.read_text(encoding="utf-8"))
     checked = check_loaded(read_plan_file(str(copy)))
     copy.write_text(demo_plan.read_text(encoding="utf-8").replace("NDS-HD-301", "CHANGED"), encoding="utf-8")
     # A report rendered after the file changed must not show the new lines as the checked ones.
