@@ -1,0 +1,123 @@
+"""Benchmark: `protolint render binder` on the demo against WeasyPrint alone on the same HTML.
+
+Both sides run as fresh processes, one after the other in each round (so load from other jobs
+falls on both alike), and the median of several rounds is compared:
+
+* **protolint**: `python -m protolint render binder demo_protocol/plan.yaml --output b.pdf`,
+  the whole command (start-up, loading and checking the plan, the sample-size appendix, the
+  check appendix, the templates, the PDF);
+* **WeasyPrint alone**: a process that imports only WeasyPrint and lays out the HTML that
+  `render binder --format html` wrote, with the same packaged fonts and the same PDF/A-3b
+  variant, i.e. the least any tool must spend to produce that document.
+
+Target (from the issue): the command within 1.3 x WeasyPrint alone. ``rows()`` returns the
+rows (``measure | result | target | met``) for a combined benchmark table; running the script
+prints them. ``--rounds N`` sets the number of rounds (default 5); ``--strict`` exits 1 when
+the target is missed. A measurement, not a test.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+BENCH = Path(__file__).resolve().parent
+REPO = BENCH.parent
+sys.path.insert(0, str(BENCH))
+DEMO = REPO / "demo_protocol" / "plan.yaml"
+TARGET_RATIO = 1.3
+
+from bench_stats import Row, format_table  # noqa: E402  (the one row type of the benchmark tables)
+
+# WeasyPrint alone: the fonts are served from the packaged files by a plain function (no
+# protolint import), under the same URLs the document's stylesheet uses.
+_WEASYPRINT_ALONE = r"""
+import sys
+from pathlib import Path
+from weasyprint import CSS, HTML
+from weasyprint.text.fonts import FontConfiguration
+from weasyprint.urls import URLFetcher, URLFetcherResponse
+
+html, fonts, css_file, out = sys.argv[1:5]
+origin = "https://assets.invalid/fonts/"
+
+class Fonts(URLFetcher):
+    def fetch(self, url, headers=None):
+        body = (Path(fonts) / url[len(origin):]).read_bytes()
+        return URLFetcherResponse(url, body, {"Content-Type": "font/ttf"})
+
+fetch = Fonts()
+config = FontConfiguration()
+css = CSS(string=Path(css_file).read_text(), url_fetcher=fetch, font_config=config)
+HTML(filename=html, url_fetcher=fetch).write_pdf(out, stylesheets=[css], font_config=config, pdf_variant="pdf/a-3b")
+"""
+
+
+def _run(command: list[str]) -> float:
+    env = {**os.environ, "PYTHONPATH": str(REPO)}
+    env.pop("SOURCE_DATE_EPOCH", None)
+    start = time.perf_counter()
+    subprocess.run(command, check=True, cwd=REPO, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    return time.perf_counter() - start
+
+
+def measure(rounds: int = 5) -> tuple[float, float, int]:
+    """Median seconds of the whole command and of WeasyPrint alone, and the PDF's page count."""
+    sys.path.insert(0, str(REPO))
+    from protolint.render.pdf import font_css, page_size_css
+    from protolint.resources import templates_dir
+
+    with tempfile.TemporaryDirectory() as folder:
+        work = Path(folder)
+        html, css = work / "binder.html", work / "fonts.css"
+        subprocess.run([sys.executable, "-m", "protolint", "render", "binder", str(DEMO), "--format", "html",
+                        "--output", str(html)], check=True, cwd=REPO, env={**os.environ, "PYTHONPATH": str(REPO)},
+                       stderr=subprocess.DEVNULL)
+        css.write_text(font_css() + page_size_css("a4"), encoding="utf-8")
+        ours = [sys.executable, "-m", "protolint", "render", "binder", str(DEMO), "--output", str(work / "ours.pdf")]
+        alone = [sys.executable, "-c", _WEASYPRINT_ALONE, str(html), str(templates_dir() / "fonts"), str(css),
+                 str(work / "alone.pdf")]
+        _run(ours), _run(alone)  # warm the file cache for both
+        times_ours, times_alone = [], []
+        for _ in range(rounds):
+            times_ours.append(_run(ours))
+            times_alone.append(_run(alone))
+        import pypdf
+
+        pages = len(pypdf.PdfReader(str(work / "ours.pdf")).pages)
+        if len(pypdf.PdfReader(str(work / "alone.pdf")).pages) != pages:
+            raise SystemExit("the two PDFs differ in length: the comparison would not be like for like")
+    return statistics.median(times_ours), statistics.median(times_alone), pages
+
+
+def rows(rounds: int = 5) -> list[Row]:
+    ours, alone, pages = measure(rounds)
+    ratio = ours / alone
+    return [
+        Row(f"render binder, demo ({pages} pages), whole process", f"{ours:.2f} s", "", True),
+        Row("WeasyPrint alone, same HTML, fonts and PDF/A variant", f"{alone:.2f} s", "", True),
+        Row("render binder / WeasyPrint alone", f"{ratio:.2f}x", f"<= {TARGET_RATIO}x", ratio <= TARGET_RATIO),
+    ]
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--rounds", type=int, default=5, help="fresh-process rounds per side (median taken)")
+    parser.add_argument("--strict", action="store_true", help="exit 1 when the target is missed")
+    args = parser.parse_args()
+    table = rows(args.rounds)
+    print(f"binder benchmark, median of {args.rounds} rounds, {os.cpu_count()} cores")
+    print(format_table(table))
+    met = all(r.met for r in table)
+    print("target met" if met else "target missed")
+    return 1 if args.strict and not met else 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
