@@ -85,7 +85,7 @@ def read_sop_texts(source: LoadedSource) -> tuple[tuple[SopText, ...], tuple[Fin
             problems.append(finding_at(source, path, refused.rule, Severity.ERROR,
                                        f"SOP text file {written!r}: {refused}", at_key=True))
             continue
-        sop_id = sop.get("id") if isinstance(sop.get("id"), str) else f"sops[{index}]"
+        sop_id = sop["id"] if isinstance(sop.get("id"), str) else f"sops[{index}]"
         texts.append(SopText(sop_id, index, written, text, hashlib.sha256(raw).hexdigest(), len(raw)))
     return tuple(texts), tuple(problems)
 

@@ -78,11 +78,12 @@ def sample_size_chart(curve: SampleSizeCurve) -> str:
         return _H - _BOTTOM - n / y_max * (_H - _TOP - _BOTTOM)
 
     plan_x, plan_n = curve.plan_reliability, curve.plan_n_total
-    has_evidence = curve.evidence_reliability is not None and curve.evidence_n_total is not None
+    evidence = None
+    if curve.evidence_reliability is not None and curve.evidence_n_total is not None:
+        evidence = (curve.evidence_reliability, curve.evidence_n_total)
     summary = f"The plan: {plan_n:,} at reliability {plan_x:.2f}."
-    if has_evidence:
-        summary += (f" The evidence supports reliability {curve.evidence_reliability:.3f}, "
-                    f"for which {curve.evidence_n_total:,} are needed.")
+    if evidence is not None:
+        summary += f" The evidence supports reliability {evidence[0]:.3f}, for which {evidence[1]:,} are needed."
     parts = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {_W} {_H}" role="img" class="chart" {_FONT}>'
              f"<title>Participants to enrol against reliability</title><desc>{summary}</desc>",
              f'<rect x="{_LEFT}" y="{_TOP}" width="{_W - _LEFT - _RIGHT}" height="{_H - _TOP - _BOTTOM}" '
@@ -105,20 +106,19 @@ def sample_size_chart(curve: SampleSizeCurve) -> str:
     path = " ".join(f"{'M' if i == 0 else 'L'}{px(x):.1f},{py(n):.1f}"
                     for i, (x, n) in enumerate(zip(curve.reliabilities, curve.n_totals)))
     parts.append(f'<path d="{path}" class="curve" fill="none" stroke="{_CURVE}" stroke-width="2.5"/>')
-    if has_evidence:
-        ex, en = curve.evidence_reliability, curve.evidence_n_total
-        assert ex is not None and en is not None
+    if evidence is not None:
+        ex, en = evidence
         parts.append(f'<line x1="{px(plan_x):.1f}" y1="{py(plan_n):.1f}" x2="{px(ex):.1f}" y2="{py(en):.1f}" '
                      f'class="gap" stroke="{_ALERT}" stroke-width="1.5" stroke-dasharray="5 4"/>')
     parts.append(f'<rect x="{px(plan_x) - 6:.1f}" y="{py(plan_n) - 6:.1f}" width="12" height="12" class="plan-point" '
                  f'fill="#ffffff" stroke="{_INK}" stroke-width="2.5"/>')
-    if has_evidence:
+    if evidence is not None:
         parts.append(f'<circle cx="{px(ex):.1f}" cy="{py(en):.1f}" r="7" class="evidence-point" fill="{_ALERT}"/>')
     # Labels sit on the side of the point that faces the middle of the chart, so none is cut off.
     anchor, offset = ("end", -10) if px(plan_x) > _W / 2 else ("start", 10)
     parts.append(f'<text x="{px(plan_x) + offset:.1f}" y="{py(plan_n) + 20:.1f}" class="label" text-anchor="{anchor}" '
                  f'font-size="13" font-weight="bold" fill="{_INK}">plan: {plan_n:,} at {plan_x:.2f}</text>')
-    if has_evidence:
+    if evidence is not None:
         anchor, offset = ("end", -10) if px(ex) > _W * 0.7 else ("start", 10)
         parts.append(f'<text x="{px(ex) + offset:.1f}" y="{py(en) - 10:.1f}" class="label" text-anchor="{anchor}" '
                      f'font-size="13" font-weight="bold" fill="{_INK}">evidence: {en:,} at {ex:.2f}</text>')

@@ -36,7 +36,7 @@ import yaml
 from protolint.plan import load_plan, read_plan_file
 from protolint.plan.source import load_source
 from protolint.render import FORMATS, KINDS, render
-from tests.render.test_hostile import _Recorder, leak_server  # noqa: F401  (the recording HTTP server fixture)
+from tests.render.test_hostile import _Recorder  # the recording HTTP server's handler
 
 REPO = Path(__file__).resolve().parents[2]
 
