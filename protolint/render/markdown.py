@@ -26,7 +26,9 @@ _SCHEME = re.compile(r"^\s*([A-Za-z][A-Za-z0-9+.\-]*):")
 
 # Block and inline rules we allow. Tables and HTML blocks are left out on purpose: long free
 # text in table cells breaks pagination, and HTML is never passed through.
-_BLOCK_RULES = ["paragraph", "heading", "lheading", "list", "blockquote", "code", "fence", "hr"]
+# "reference" lets a text use reference-style links (``[guide][1]`` … ``[1]: https://…``); a
+# definition goes through the same link check, and a refused one stays visible as text.
+_BLOCK_RULES = ["paragraph", "heading", "lheading", "list", "blockquote", "code", "fence", "hr", "reference"]
 _INLINE_RULES = ["text", "newline", "escape", "backticks", "emphasis", "link", "autolink", "entity",
                  "strikethrough", "linkify"]
 

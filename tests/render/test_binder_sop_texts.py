@@ -157,3 +157,14 @@ def test_markdown_block_neutralises_links_however_they_are_written(text: str) ->
 def test_markdown_block_keeps_safe_reference_links() -> None:
     out = markdown_block("See [the guide].\n\n[the guide]: https://example.org/guide")
     assert out == "See [the guide].\n\n[the guide]: https://example.org/guide"
+
+
+def test_html_keeps_safe_reference_links_and_shows_refused_definitions_as_text() -> None:
+    from protolint.render.markdown import markdown_html
+
+    assert str(markdown_html("See [the guide][g].\n\n[g]: https://example.org/g")) == (
+        '<p>See <a href="https://example.org/g" rel="noopener noreferrer nofollow">the guide</a>.</p>\n')
+    for text in ("See [bad][b].\n\n[b]: javascript:alert(1)", "- item\n- [b]: file:///etc/passwd\n\n[b]",
+                 "> [b]: data:text/html,x\n\n[b]", "[b]:\n  javascript:alert(1)\n\n[b]"):
+        html = str(markdown_html(text))
+        assert "href" not in html and "[b]:" in html, html
