@@ -1,7 +1,8 @@
 """Benchmark: `protolint render binder` on the demo against WeasyPrint alone on the same HTML.
 
 Both sides run as fresh processes, one after the other in each round (so load from other jobs
-falls on both alike), and the median of several rounds is compared:
+falls on both alike), and the medians of several rounds are compared, of the processor time
+each process used (user + system, its children included) and of the wall time:
 
 * **protolint**: `python -m protolint render binder demo_protocol/plan.yaml --output b.pdf`,
   the whole command (start-up, loading and checking the plan, the sample-size appendix, the
@@ -10,7 +11,13 @@ falls on both alike), and the median of several rounds is compared:
   `render binder --format html` wrote, with the same packaged fonts and the same PDF/A-3b
   variant, i.e. the least any tool must spend to produce that document.
 
-Target (from the issue): the command within 1.3 x WeasyPrint alone. ``rows()`` returns the
+Target (from the issue): the command within 1.3 x WeasyPrint alone, judged on wall time (what
+the user waits for). On a shared machine both ratios move with the load from other jobs (on 2
+cores: 1.22x wall on a quiet machine, 1.26x-1.40x at a load of 6), so the processor time is
+printed beside it. What the command spends beyond WeasyPrint: start-up and imports (click,
+jsonschema, PyYAML, jinja2, markdown-it-py: about 0.4 s), scipy.special for the exact
+noncentral-t sample sizes (about 0.2 s), checking the plan for the check appendix and drawing
+the appendix (about 0.1 s). ``rows()`` returns the
 rows (``measure | result | target | met``) for a combined benchmark table; running the script
 prints them. ``--rounds N`` sets the number of rounds (default 5); ``--strict`` exits 1 when
 the target is missed. A measurement, not a test.
@@ -20,6 +27,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import resource
 import statistics
 import subprocess
 import sys
@@ -59,16 +67,27 @@ HTML(filename=html, url_fetcher=fetch).write_pdf(out, stylesheets=[css], font_co
 """
 
 
-def _run(command: list[str]) -> float:
+def _cpu() -> float:
+    usage = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return usage.ru_utime + usage.ru_stime
+
+
+def _run(command: list[str]) -> tuple[float, float]:
+    """(processor seconds, wall seconds) of one fresh process."""
     env = {**os.environ, "PYTHONPATH": str(REPO)}
     env.pop("SOURCE_DATE_EPOCH", None)
-    start = time.perf_counter()
+    cpu, start = _cpu(), time.perf_counter()
     subprocess.run(command, check=True, cwd=REPO, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    return time.perf_counter() - start
+    return _cpu() - cpu, time.perf_counter() - start
 
 
-def measure(rounds: int = 5) -> tuple[float, float, int]:
-    """Median seconds of the whole command and of WeasyPrint alone, and the PDF's page count."""
+def _medians(runs: list[tuple[float, float]]) -> tuple[float, float]:
+    return statistics.median(r[0] for r in runs), statistics.median(r[1] for r in runs)
+
+
+def measure(rounds: int = 5) -> tuple[tuple[float, float], tuple[float, float], int]:
+    """Median (processor, wall) seconds of the whole command and of WeasyPrint alone, and the
+    PDF's page count."""
     sys.path.insert(0, str(REPO))
     from protolint.render.pdf import font_css, page_size_css
     from protolint.resources import templates_dir
@@ -93,16 +112,19 @@ def measure(rounds: int = 5) -> tuple[float, float, int]:
         pages = len(pypdf.PdfReader(str(work / "ours.pdf")).pages)
         if len(pypdf.PdfReader(str(work / "alone.pdf")).pages) != pages:
             raise SystemExit("the two PDFs differ in length: the comparison would not be like for like")
-    return statistics.median(times_ours), statistics.median(times_alone), pages
+    return _medians(times_ours), _medians(times_alone), pages
 
 
 def rows(rounds: int = 5) -> list[Row]:
-    ours, alone, pages = measure(rounds)
-    ratio = ours / alone
+    (ours_cpu, ours_wall), (alone_cpu, alone_wall), pages = measure(rounds)
+    ratio = ours_wall / alone_wall
     return [
-        Row(f"render binder, demo ({pages} pages), whole process", f"{ours:.2f} s", "", True),
-        Row("WeasyPrint alone, same HTML, fonts and PDF/A variant", f"{alone:.2f} s", "", True),
-        Row("render binder / WeasyPrint alone", f"{ratio:.2f}x", f"<= {TARGET_RATIO}x", ratio <= TARGET_RATIO),
+        Row(f"render binder, demo ({pages} pages), whole process",
+            f"{ours_cpu:.2f} s CPU, {ours_wall:.2f} s wall", "", True),
+        Row("WeasyPrint alone, same HTML, fonts and PDF/A variant",
+            f"{alone_cpu:.2f} s CPU, {alone_wall:.2f} s wall", "", True),
+        Row("render binder / WeasyPrint alone (wall time)", f"{ratio:.2f}x", f"<= {TARGET_RATIO}x", ratio <= TARGET_RATIO),
+        Row("render binder / WeasyPrint alone (processor time, for information)", f"{ours_cpu / alone_cpu:.2f}x", "", True),
     ]
 
 
