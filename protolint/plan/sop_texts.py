@@ -34,8 +34,9 @@ from pathlib import PurePosixPath
 from protolint.findings import Finding, Severity, finding_at
 from protolint.plan.source import LoadedSource, Path
 
-MAX_TEXT_BYTES = 512 * 1024
-"""Largest SOP text read (bytes). A long SOP is some tens of kilobytes of Markdown."""
+MAX_TEXT_BYTES = 256 * 1024
+"""Largest SOP text read (bytes). A long SOP is some tens of kilobytes of Markdown; at the limit,
+hostile Markdown (a quarter of a million brackets) still renders within seconds."""
 
 RULE_OUTSIDE = "schema/text-file-outside-folder"
 RULE_UNREADABLE = "schema/text-file-unreadable"

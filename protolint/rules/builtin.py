@@ -105,7 +105,7 @@ register_builtin("schema/text-file-outside-folder", "error", _SCHEMA_SOURCE,
 register_builtin("schema/text-file-unreadable", "error", _SCHEMA_SOURCE,
                  "An SOP's text file is missing, too large or not UTF-8 text.", """
     The file an SOP's `text_file` names must exist, be a regular file (not a folder, a pipe
-    or a device) of at most 512 KiB, and hold UTF-8 text without control characters. A
+    or a device) of at most 256 KiB, and hold UTF-8 text without control characters. A
     binder must never be filed with an SOP's text silently missing.
 
     **Passes**: `text_file: sops/SOP-RAT-001.md`, a UTF-8 Markdown file of a few kilobytes.
