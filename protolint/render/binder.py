@@ -151,7 +151,7 @@ def included_sop_files(plan: Plan, texts: tuple[SopText, ...]) -> tuple[Included
     for index, sop in enumerate(plan.sops):
         text = text_for(texts, index)
         if text is not None:
-            rows.append(IncludedFile(f"{sop.id} version {sop.version} text", text.path, text.sha256))
+            rows.append(IncludedFile(f"{sop.id} {sop.version} text", text.path, text.sha256))
     return tuple(rows)
 
 
