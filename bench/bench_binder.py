@@ -12,12 +12,13 @@ each process used (user + system, its children included) and of the wall time:
   variant, i.e. the least any tool must spend to produce that document.
 
 Target (from the issue): the command within 1.3 x WeasyPrint alone, judged on wall time (what
-the user waits for). On a shared machine both ratios move with the load from other jobs (on 2
-cores: 1.22x wall on a quiet machine, 1.26x-1.40x at a load of 6), so the processor time is
-printed beside it. What the command spends beyond WeasyPrint: start-up and imports (click,
-jsonschema, PyYAML, jinja2, markdown-it-py: about 0.4 s), scipy.special for the exact
-noncentral-t sample sizes (about 0.2 s), checking the plan for the check appendix and drawing
-the appendix (about 0.1 s). ``rows()`` returns the
+the user waits for); the processor time is printed beside it, as both move with the load from
+other jobs on a shared machine (measured on 2 cores: 1.22x-1.71x wall, 1.37x-1.43x processor
+time; 1.74x wall before the sample-size chart stopped importing matplotlib). What the command
+spends beyond WeasyPrint, in processor time: start-up and imports (click, PyYAML, the plan
+model, jinja2, markdown-it-py: about 0.3 s), scipy.special for the exact noncentral-t sample
+sizes of the appendix (about 0.25 s, the largest single part), checking the plan and building
+the appendices (about 0.1 s). ``rows()`` returns the
 rows (``measure | result | target | met``) for a combined benchmark table; running the script
 prints them. ``--rounds N`` sets the number of rounds (default 5); ``--strict`` exits 1 when
 the target is missed. A measurement, not a test.

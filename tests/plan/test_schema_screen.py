@@ -92,7 +92,8 @@ def test_a_plan_the_screen_cannot_take_still_gets_its_located_finding(demo_plan)
     # The loader refuses a number this large in a file; data made in code can still hold one.
     from dataclasses import replace
 
-    source = load_source(demo_plan.read_bytes(), "plan.yaml")
+    # Named as the demo itself: it names its SOP texts relative to its folder.
+    source = load_source(demo_plan.read_bytes(), str(demo_plan))
     data = dict(source.data, format_version=100000000000000000000000)
     loaded = load_plan(replace(source, data=data))
     assert [(f.rule, f.location.line) for f in loaded.problems] == [("schema/value-not-allowed", 7)]
