@@ -199,9 +199,9 @@ def select_rows(source: SourceTable, options: ReadOptions, wanted: tuple[str, ..
     notes: list[str] = []
     instrument = INSTRUMENT.get(options.preset or "")
     if instrument is not None:
-        column = _optional_column(source, instrument)
-        if column is not None:
-            found = sorted({cell_text(source.rows[i][column]) for i in kept})
+        instrument_column = _optional_column(source, instrument)
+        if instrument_column is not None:
+            found = sorted({cell_text(source.rows[i][instrument_column]) for i in kept})
             if len(found) > 1:
                 raise DataError(source.header_where(),
                                 f"rows from {len(found)} instruments ({instrument}: {', '.join(found[:8])}); "

@@ -127,10 +127,10 @@ def read_workbook(path: str, sheet: str | None = None) -> SourceTable:
 
     table: list[tuple[int, list[Cell]]] = []
     formulas: dict[tuple[int, int], str] = {}
-    cells = 0
+    cell_count = 0
     for number, row in _checked_rows(path, ws):
-        cells += len(row)
-        if cells > MAX_CELLS:
+        cell_count += len(row)
+        if cell_count > MAX_CELLS:
             raise too_many_cells(Where(path, f"{chosen}!{number}:{number}"))
         values: list[Cell] = []
         for column, value in enumerate(row):
