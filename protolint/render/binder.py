@@ -6,6 +6,7 @@ findings, from the one check pipeline)."""
 from __future__ import annotations
 
 import dataclasses
+import math
 from dataclasses import dataclass
 from datetime import date
 from typing import Any, Callable
@@ -228,7 +229,7 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
         Fact("Total N to enrol stated in the plan", str(spec.stated_n_total)),
     )
     results: tuple[Fact, ...] = (
-        Fact("Observed effect after attenuation", number(at_plan.effect_size_observed, 3)),
+        Fact(f"Observed effect at the assumed reliability {number(reliability)}", number(at_plan.effect_size_observed, 3)),
         Fact("Analysable N per group", " / ".join(str(n) for n in at_plan.n_per_group)),
         Fact("Analysable N in total", str(at_plan.n_total)),
         Fact("To enrol, allowing for dropout", str(at_plan.n_total_enrolled)),
@@ -239,6 +240,10 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
     if supported is not None:
         results += (
             Fact("Reliability the evidence supports", supported.description),
+            # The same attenuation as above (d·√ρ), at the evidence's reliability: the figure a
+            # reader compares with the plan's assumption.
+            Fact(f"Observed effect at the supported reliability {number(supported.reliability, 3)}",
+                 number(d * math.sqrt(supported.reliability), 3)),
             Fact("To enrol at that reliability", f"{supported.n_total} (power {number(supported.power, 3)})"),
         )
     note = None

@@ -144,7 +144,8 @@ class SiteChecklist:
     def heading(self) -> str:
         if self.id == CENTRAL:
             return self.name
-        return f"{self.name} ({self.id}{', ' + self.country if self.country else ''})"
+        # "country NO", not a bare "NO", which reads as the word "no".
+        return f"{self.name} (site {self.id}{', country ' + self.country if self.country else ''})"
 
 
 @dataclass(frozen=True)

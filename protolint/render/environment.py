@@ -7,6 +7,7 @@ an empty string, and the filters are registered here explicitly.
 
 from __future__ import annotations
 
+import re
 from datetime import date
 from functools import lru_cache
 
@@ -51,6 +52,18 @@ def md_cell(value: object) -> str:
     return markdown_escape(value) or "—"
 
 
+_NUMBER_THEN_PERCENT = re.compile(r"(?<=\d) (?=%)")
+
+
+def keep_percent_with_number(value: object) -> object:
+    """Every printed value, plan text included: "0.5 %" keeps its sign on the number's line
+    (a no-break space), so a line never starts with "%". Markup (already rendered HTML) is
+    left alone."""
+    if isinstance(value, str) and not isinstance(value, Markup):
+        return _NUMBER_THEN_PERCENT.sub("\u00a0", value)
+    return value
+
+
 @lru_cache(maxsize=1)
 def make_env() -> jinja2.Environment:
     """Build (once per process) the environment for ``templates/``."""
@@ -63,6 +76,7 @@ def make_env() -> jinja2.Environment:
         trim_blocks=True,
         lstrip_blocks=True,
         keep_trailing_newline=True,
+        finalize=keep_percent_with_number,
     )
     env.filters.update({
         "long_date": long_date,

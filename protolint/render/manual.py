@@ -14,6 +14,7 @@ from protolint.render.phrases import (
     TRIGGER_WORDS,
     criterion_text,
     join_or,
+    method_words,
     monitoring_facts,
     scale_text,
     visits_text,
@@ -125,7 +126,7 @@ def _pool_section(plan: Plan, pool: RaterPool) -> PoolSection:
     )
     c = pool.certification
     certification = (
-        Fact("Method", words(c.method) if c and c.method else "not stated in the plan"),
+        Fact("Method", method_words(c.method) if c and c.method else "not stated in the plan"),
         Fact("Reference cases", str(c.cases) if c and c.cases is not None else "not stated in the plan"),
         Fact("Reference scores set by", c.reference_scores if c and c.reference_scores else "not stated in the plan"),
         Fact("Pass criterion", criterion_text(c.criterion if c else None)),

@@ -27,6 +27,40 @@ TRIGGER_WORDS = {
     "long-absence": "a long absence from rating",
 }
 
+# Plan codes whose hyphen is part of the word ("co-rating") or whose code is not English
+# ("weighted-kappa-quadratic"): the documents print these names, never the code.
+METHOD_WORDS = {
+    "co-rating": "co-rating",
+    "central-re-rating": "central re-rating",
+    "recorded-cases": "recorded cases",
+    "live-observed": "live observation",
+    "video-review": "video review",
+    "recalibration-cases": "recalibration cases",
+    "data-surveillance": "data surveillance",
+}
+COEFFICIENT_WORDS = {
+    "cohen-kappa": "Cohen's kappa",
+    "weighted-kappa-linear": "linearly weighted kappa",
+    "weighted-kappa-quadratic": "quadratically weighted kappa",
+    "weighted-kappa": "weighted kappa (weights not stated)",
+    "fleiss-kappa": "Fleiss' kappa",
+    "krippendorff-alpha": "Krippendorff's alpha",
+    "gwet-ac1": "Gwet's AC1",
+    "cronbach-alpha": "Cronbach's alpha",
+    "pearson-r": "Pearson's r",
+    "spearman-rho": "Spearman's rho",
+    "percent-agreement": "percent agreement",
+}
+
+
+def method_words(code: str) -> str:
+    return METHOD_WORDS.get(code) or words(code)
+
+
+def coefficient_words(code: str) -> str:
+    """A coefficient code in its usual name; ICC forms ("ICC(2,1)") are already names."""
+    return COEFFICIENT_WORDS.get(code) or code
+
 
 def criterion_text(criterion: Criterion | None) -> str:
     """A pass or drift criterion in words."""
@@ -34,7 +68,7 @@ def criterion_text(criterion: Criterion | None) -> str:
         return "not stated in the plan"
     parts = []
     if criterion.coefficient and criterion.minimum is not None:
-        parts.append(f"{criterion.coefficient} of at least {number(criterion.minimum)} against the reference scores")
+        parts.append(f"{coefficient_words(criterion.coefficient)} of at least {number(criterion.minimum)} against the reference scores")
     if criterion.max_deviation is not None:
         share = criterion.within_fraction
         who = "every case" if share is None or share >= 1 else f"at least {share * 100:g} % of cases"
@@ -97,8 +131,8 @@ def monitoring_facts(pool: RaterPool) -> tuple[Fact, ...]:
     if m is None:
         return ()
     return (
-        Fact("Interval", f"every {m.interval_weeks} weeks" if m.interval_weeks else "no fixed interval in the plan"),
-        Fact("Method", join_or(tuple(words(x) for x in m.method))),
+        Fact("Interval", ("every week" if m.interval_weeks == 1 else f"every {m.interval_weeks} weeks") if m.interval_weeks else "no fixed interval in the plan"),
+        Fact("Method", join_or(tuple(method_words(x) for x in m.method))),
         Fact("Sample", sample_text(pool)),
         Fact("Measures reviewed", join_or(m.metrics)),
         Fact("Drift threshold", criterion_text(m.drift_threshold)),

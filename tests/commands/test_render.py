@@ -94,8 +94,8 @@ def test_checklist_for_one_site(cli, demo_plan, tmp_path: Path, monkeypatch) -> 
     monkeypatch.chdir(tmp_path)
     whole = cli("render", "checklist", demo_plan, "--format", "markdown").stdout
     one = cli("render", "checklist", demo_plan, "--format", "markdown", "--site", "S02").stdout
-    assert "(S01, NO)" in whole and "(S02, DE)" in whole
-    assert "(S02, DE)" in one and "(S01, NO)" not in one and "Central rating" not in one
+    assert "(site S01, country NO)" in whole and "(site S02, country DE)" in whole
+    assert "(site S02, country DE)" in one and "(site S01, country NO)" not in one and "Central rating" not in one
     assert "This copy covers site S02 only." in one
     assert one.startswith("# Rater monitoring checklist: NDS-HD-301 — site S02, Lindenhof Dermatology Centre (fictional)\n")
     result = cli("render", "checklist", demo_plan, "--site", "S02")

@@ -75,7 +75,7 @@ def test_every_round_has_a_row_for_every_rostered_rater_of_its_site() -> None:
     forms = markdown_forms(render("checklist", "markdown", plan))
     assert len(forms) == 24  # 12 weekly rounds at each of two sites
     for (site, heading), raters in forms.items():
-        expected = ["R-S1-01", "R-S1-02", "R-S1-03"] if "(S1)" in site else ["R-S2-01", "R-S2-02"]
+        expected = ["R-S1-01", "R-S1-02", "R-S1-03"] if "(site S1)" in site else ["R-S2-01", "R-S2-02"]
         assert raters == expected, (site, heading)
     assert "Round 1: due 2026-03-09, reviews ratings from 2026-03-02" in {h for _, h in forms}
     assert "Round 12: due 2026-05-25, reviews ratings from 2026-05-19" in {h for _, h in forms}

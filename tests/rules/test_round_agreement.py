@@ -30,7 +30,7 @@ from tests.rules._cases import build_case, case_files, run_text
 RULE_IDS = [r.meta.id for r in all_rules()]
 DEMO = Path(__file__).resolve().parents[2] / "demo_protocol" / "plan.yaml"
 
-_SITE = re.compile(r"^## .*?(?: \((?P<id>[^(),]+)(?:, [^()]+)?\))?$")
+_SITE = re.compile(r"^## .*?(?: \(site (?P<id>[^(),]+)(?:, country [^()]+)?\))?$")
 _POOL = re.compile(r"^### (?P<label>.+) — every (?:week|\d+ weeks)$")
 _ROUND = re.compile(r"^#### Round (?P<number>\d+)(?P<close> \(close-out\))?: due \d{4}-\d\d-\d\d,")
 
