@@ -13,3 +13,14 @@ def format_table(rows: Sequence[Sequence[str]]) -> str:
     lines = [" | ".join(row[i].ljust(widths[i]) for i in range(4)).rstrip() for row in every]
     lines.insert(1, "-|-".join("-" * width for width in widths))
     return "\n".join(lines)
+
+
+def print_table(title: str, rows: Sequence[Sequence[str]], met: bool, strict: bool) -> int:
+    """Print one script's table under ``title`` (with the core count) and its verdict; the exit
+    code is 1 only with ``--strict`` and a missed target."""
+    import os
+
+    print(f"{title}, {os.cpu_count()} cores")
+    print(format_table(rows))
+    print("every target met" if met else "some targets missed")
+    return 1 if strict and not met else 0

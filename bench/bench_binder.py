@@ -42,7 +42,7 @@ sys.path.insert(0, str(BENCH))
 DEMO = REPO / "demo_protocol" / "plan.yaml"
 TARGET_RATIO = 1.3
 
-from bench_stats import Row, format_table  # noqa: E402  (the one row type of the benchmark tables)
+from bench_stats import Row  # noqa: E402  (the one row type of the benchmark tables)
 
 # WeasyPrint alone: the fonts are served from the packaged files by a plain function (no
 # protolint import), under the same URLs the document's stylesheet uses.
@@ -136,11 +136,9 @@ def main() -> int:
     parser.add_argument("--strict", action="store_true", help="exit 1 when the target is missed")
     args = parser.parse_args()
     table = rows(rounds=args.rounds)
-    print(f"binder benchmark, median of {args.rounds} rounds, {os.cpu_count()} cores")
-    print(format_table(table))
-    met = all(r.met for r in table)
-    print("target met" if met else "target missed")
-    return 1 if args.strict and not met else 0
+    from _table import print_table
+
+    return print_table(f"binder benchmark, median of {args.rounds} rounds", [r.cells() for r in table], all(r.met for r in table), args.strict)
 
 
 if __name__ == "__main__":

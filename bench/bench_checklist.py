@@ -30,7 +30,7 @@ BENCH = Path(__file__).resolve().parent
 REPO = BENCH.parent
 sys.path[:0] = [str(REPO), str(BENCH)]
 
-from bench_stats import Row, format_table  # noqa: E402 - after the path is set
+from bench_stats import Row  # noqa: E402 - after the path is set
 from stress_plan import stress_plan_text  # noqa: E402
 
 TARGET_SECONDS = 30.0
@@ -105,11 +105,9 @@ def main() -> int:
     parser.add_argument("--strict", action="store_true", help="exit 1 when a target is missed")
     args = parser.parse_args()
     table = rows(args.runs)
-    print(f"checklist benchmark, {os.cpu_count()} cores")
-    print(format_table(table))
-    met = all(r.met for r in table)
-    print("all targets met" if met else "some targets missed")
-    return 1 if args.strict and not met else 0
+    from _table import print_table
+
+    return print_table("checklist benchmark", [r.cells() for r in table], all(r.met for r in table), args.strict)
 
 
 if __name__ == "__main__":

@@ -314,11 +314,9 @@ def main() -> int:
     parser.add_argument("--quick", action="store_true", help="skip the large fresh-process runs")
     args = parser.parse_args()
     table = rows(quick=args.quick)
-    print(f"statistics benchmark, {os.cpu_count()} cores")
-    print(format_table(table))
-    met = all(r.met for r in table)
-    print("all targets met" if met else "some targets missed")
-    return 1 if args.strict and not met else 0
+    from _table import print_table
+
+    return print_table("statistics benchmark", [r.cells() for r in table], all(r.met for r in table), args.strict)
 
 
 if __name__ == "__main__":

@@ -11,7 +11,6 @@ package imports the rules, the documents or the commands.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from pathlib import Path as FilePath
 
 from protolint.errors import LocatedError
 from protolint.findings import Finding, Severity, finding_at

@@ -15,7 +15,7 @@ import pytest
 from protolint.plan import load_plan
 from protolint.plan.source import load_source
 from protolint.render import render
-from protolint.render.checklist import GRID, MAX_BLANK_ROWS, ROWS_PER_BLOCK, checklist_context
+from protolint.render.checklist import GRID, ROWS_PER_BLOCK, checklist_context
 
 FIXTURES = Path(__file__).resolve().parent / "fixtures"
 
