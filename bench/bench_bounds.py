@@ -21,12 +21,23 @@ import numpy as np
 REPO = Path(__file__).resolve().parents[1]
 
 
+# The command is started by a small launcher process that reports the command's own usage. A
+# child forked straight from this (large) benchmark process would inherit its peak memory: Linux
+# carries the forking process's resident high-water mark across exec into ru_maxrss.
+_LAUNCHER = """
+import os, subprocess, sys
+process = subprocess.Popen(sys.argv[1:], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+_, status, usage = os.wait4(process.pid, 0)
+print(usage.ru_utime + usage.ru_stime, usage.ru_maxrss, os.waitstatus_to_exitcode(status))
+"""
+
+
 def measure(args: list[str]) -> tuple[float, float, int]:
     """CPU seconds, peak MB and exit code of one whole-process run."""
-    process = subprocess.Popen([sys.executable, "-m", "protolint", *args], cwd=REPO, stdout=subprocess.DEVNULL,
-                               stderr=subprocess.DEVNULL, env={**os.environ, "PYTHONPATH": str(REPO)})
-    _, status, usage = os.wait4(process.pid, 0)
-    return usage.ru_utime + usage.ru_stime, usage.ru_maxrss / 1024, os.waitstatus_to_exitcode(status)
+    done = subprocess.run([sys.executable, "-c", _LAUNCHER, sys.executable, "-m", "protolint", *args], cwd=REPO,
+                          capture_output=True, text=True, check=True, env={**os.environ, "PYTHONPATH": str(REPO)})
+    cpu, peak_kib, code = done.stdout.split()
+    return float(cpu), int(peak_kib) / 1024, int(code)
 
 
 def write(path: Path, header: str, rows: np.ndarray, fmt: str = "{}") -> Path:
