@@ -385,14 +385,15 @@ def analyse(
                 "(or --plan and --instrument) so that a category nobody used still counts."
             )
 
-        n_categories = len(cats) if cats is not None else int(observed.size)
-        too_many = category_limit_reason(n_categories, values.shape[0])
-        if too_many:
-            kappa_type = ["fleiss_kappa", "cohen_kappa", "gwet_ac1"]
-            if scale == "ordinal":
-                kappa_type += ["cohen_kappa_linear", "cohen_kappa_quadratic", "gwet_ac2"]
-            for name in kappa_type:
-                skipped[name] = too_many
+        # Every coefficient below is kappa-type: beyond the bound each is left out with the one
+        # reason, instead of computed (Krippendorff's alpha above is linear in the ratings).
+        too_many = category_limit_reason(len(cats) if cats is not None else int(observed.size), values.shape[0])
+
+        def attempt_kappa(key: str, compute: Callable[[], Coefficient]) -> None:
+            if too_many:
+                skipped[key] = too_many
+            else:
+                attempt(key, compute)
 
         def fleiss() -> Coefficient:
             r = stats.fleiss_kappa(coded, confidence=confidence, categories=cats)
@@ -401,12 +402,9 @@ def analyse(
             return judged("fleiss_kappa", r.value, r.ci.low, r.ci.high, r.n_subjects, n_ratings, _CI_GWET, se=r.se,
                           se0=r.se0, z=r.z, p_value=r.p_value, categories=per_category, method=r.method)
 
-        if not too_many:
-            attempt("fleiss_kappa", fleiss)
+        attempt_kappa("fleiss_kappa", fleiss)
         kappa_names = ["cohen_kappa"] + (["cohen_kappa_linear", "cohen_kappa_quadratic"] if scale == "ordinal" else [])
-        if too_many:
-            pass
-        elif n_raters != 2:
+        if n_raters != 2 and not too_many:
             for name in kappa_names:
                 skipped[name] = f"Cohen's kappa needs exactly 2 raters and the file has {n_raters}; see Fleiss' kappa."
         else:
@@ -418,7 +416,7 @@ def analyse(
                     return judged(name, r.value, r.ci.low, r.ci.high, r.n_subjects, 2 * r.n_subjects, _CI_COHEN,
                                   weights=weights, se=r.se, se0=r.se0, z=r.z, p_value=r.p_value)
 
-                attempt(name, cohen)
+                attempt_kappa(name, cohen)
 
         rated = coded[~np.isnan(coded).all(axis=1)] if coded.size else coded
 
@@ -426,15 +424,14 @@ def analyse(
             r = stats.gwet_ac1(coded, confidence=confidence, categories=cats)
             return judged("gwet_ac1", r.value, r.ci.low, r.ci.high, r.n_subjects, _ratings_in(rated), _CI_GWET, se=r.se)
 
-        if not too_many:
-            attempt("gwet_ac1", ac1)
-        if scale == "ordinal" and not too_many:
+        attempt_kappa("gwet_ac1", ac1)
+        if scale == "ordinal":
             def ac2() -> Coefficient:
                 r = stats.gwet_ac2(coded, weights="quadratic", confidence=confidence, categories=cats)
                 return judged("gwet_ac2", r.value, r.ci.low, r.ci.high, r.n_subjects, _ratings_in(rated), _CI_GWET,
                               se=r.se, weights="quadratic")
 
-            attempt("gwet_ac2", ac2)
+            attempt_kappa("gwet_ac2", ac2)
 
     if few:
         counts = sorted(few)
