@@ -591,13 +591,9 @@ def analyse(
         raise ProtolintError(f"--max-raters and --max-occasions must be between 1 and {MAX_SEARCH}, got {max_raters} "
                              f"and {max_occasions}")
     if comparison is not None:
-        from protolint.analysis.size import MAX_EFFECT, MAX_RATIO, MIN_EFFECT, MIN_RATIO
+        from protolint.analysis.size import check_two_group_bounds
 
-        if not MIN_EFFECT <= abs(comparison.effect_size) <= MAX_EFFECT:
-            raise ProtolintError(f"the effect size must be {MIN_EFFECT:g} to {MAX_EFFECT:g} in absolute value, got "
-                                 f"{comparison.effect_size:g}")
-        if not MIN_RATIO <= comparison.ratio <= MAX_RATIO:
-            raise ProtolintError(f"--ratio must be between {MIN_RATIO:g} and {MAX_RATIO:g}, got {comparison.ratio:g}")
+        check_two_group_bounds(comparison.effect_size, comparison.ratio)
     if coefficient is not None and coefficient not in COEFFICIENTS:
         raise ProtolintError(f"coefficient must be g or phi, got {coefficient!r}")
     arrangement = arrange(pilot, design)

@@ -257,20 +257,32 @@ LIMITS_HELP = (f"Bounds: |effect size| {MIN_EFFECT:g} to {MAX_EFFECT:g} (a corre
                f"{MIN_RATIO:g} to {MAX_RATIO:g}, --n-total up to {MAX_N_TOTAL:,}, --study-raters up to {MAX_STUDY_RATERS}.")
 
 
-def check_bounds(req: Request) -> None:
-    """Refuse a request outside the bounds above, naming the option and the value."""
-    size = abs(req.effect_size)
-    name = "--effect-size" if req.difference is None else "--difference / --sd"
-    if req.design == "two-group" and not MIN_EFFECT <= size <= MAX_EFFECT:
+def check_two_group_bounds(effect_size: float, ratio: float, name: str = "--effect-size") -> None:
+    """Refuse a two-group comparison outside the bounds above (also `design`'s comparison)."""
+    size = abs(effect_size)
+    if not MIN_EFFECT <= size <= MAX_EFFECT:
         why = ("too small to detect with any trial's participants" if size < MIN_EFFECT else
                "larger than any effect a trial is planned for (the groups would not overlap)" if size > MAX_EFFECT
                else "not a number")
-        raise ProtolintError(f"{name} gives a standardised difference of {req.effect_size:g}, {why}; expected "
+        raise ProtolintError(f"{name} gives a standardised difference of {effect_size:g}, {why}; expected "
                              f"{MIN_EFFECT:g} to {MAX_EFFECT:g} in absolute value")
-    if req.design == "correlation" and not MIN_EFFECT <= size < 1.0:
-        raise ProtolintError(f"--effect-size r must be between {MIN_EFFECT:g} and 1 in absolute value, got {req.effect_size:g}")
-    if not MIN_RATIO <= req.ratio <= MAX_RATIO:
-        raise ProtolintError(f"--ratio must be between {MIN_RATIO:g} and {MAX_RATIO:g}, got {req.ratio:g}")
+    _check_ratio(ratio)
+
+
+def _check_ratio(ratio: float) -> None:
+    if not MIN_RATIO <= ratio <= MAX_RATIO:
+        raise ProtolintError(f"--ratio must be between {MIN_RATIO:g} and {MAX_RATIO:g}, got {ratio:g}")
+
+
+def check_bounds(req: Request) -> None:
+    """Refuse a request outside the bounds above, naming the option and the value."""
+    if req.design == "two-group":
+        check_two_group_bounds(req.effect_size, req.ratio,
+                               "--effect-size" if req.difference is None else "--difference / --sd")
+    else:
+        if not MIN_EFFECT <= abs(req.effect_size) < 1.0:
+            raise ProtolintError(f"--effect-size r must be between {MIN_EFFECT:g} and 1 in absolute value, got {req.effect_size:g}")
+        _check_ratio(req.ratio)
     if req.n_total_given is not None and req.n_total_given > MAX_N_TOTAL:
         raise ProtolintError(f"--n-total must be at most {MAX_N_TOTAL:,}, got {req.n_total_given:,}")
     if req.study_raters is not None and req.study_raters > MAX_STUDY_RATERS:
