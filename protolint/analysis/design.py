@@ -12,8 +12,6 @@ to enrol.
 
 from __future__ import annotations
 
-import csv
-import io
 import math
 from collections import Counter
 from dataclasses import dataclass, field
@@ -24,7 +22,6 @@ import numpy as np
 from protolint import CAUTION
 from protolint.data.rawfile import MAX_CELLS, MAX_DATA_BYTES
 from protolint.data.source import parse_number
-from protolint.data.where import Where
 from protolint.errors import LocatedError, ProtolintError
 from protolint.stats.gtheory import DESIGNS, GStudy, g_study
 from protolint.wording import plural
@@ -73,34 +70,12 @@ _REQUIRED = ("subject", "rater", "score")
 # --------------------------------------------------------------------------- input
 
 def read_rows(path: str) -> list[tuple[int, list[str]]]:
-    """The non-blank rows of a CSV file with their 1-based line numbers (header included).
+    """The rows of a pilot file with their row numbers (header first), columns named like the
+    roles: every format through the shared data reader (its size and cell limits, strict
+    decoding and located errors), so the validation below is the only design-specific part."""
+    from protolint.data.records import read_role_rows
 
-    The one place that reads the pilot file, with the data readers' size and cell limits and
-    their strict UTF-8 decoding (a bad byte is reported with its line and column).
-    """
-    from protolint.data.rawfile import MAX_CELLS, decode_text, read_limited, too_many_cells
-    from protolint.data.readers import detect_format
-
-    if detect_format(path) != "csv":
-        # Workbooks, Dataset-JSON and SAS transport through the shared reader, columns named
-        # like the roles (header first, as below).
-        from protolint.data.records import read_role_rows
-
-        return read_role_rows(path, None, _COLUMNS, skip_missing_score=False)[0]
-    text = decode_text(read_limited(path))
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
-    rows: list[tuple[int, list[str]]] = []
-    cells = 0
-    try:
-        for row in reader:
-            if row and any(cell.strip() for cell in row):
-                cells += len(row)
-                if cells > MAX_CELLS:
-                    raise too_many_cells(Where(path, str(reader.line_num)))
-                rows.append((reader.line_num, row))
-    except csv.Error as error:
-        raise LocatedError(path, reader.line_num, None, f"malformed CSV: {error}") from None
-    return rows
+    return read_role_rows(path, None, _COLUMNS, skip_missing_score=False)[0]
 
 
 @dataclass(frozen=True)
@@ -135,22 +110,19 @@ def pilot_from_rows(path: str, rows: list[tuple[int, list[str]]]) -> PilotRating
     Raises
     ------
     LocatedError
-        ``file:line: message`` for a missing column, a ragged row, an empty id, a score that
+        ``file:line: message`` for a missing column, an empty id, a score that
         is not a finite number, a repeated rating or too few subjects.
     """
     if not rows:
         raise LocatedError(path, 1, None, "the file is empty; expected a header row: subject,rater,occasion,score (occasion optional)")
+    # The reader has refused ragged rows, a wrong delimiter and a column named twice; the
+    # header holds the roles it found, in the order of _COLUMNS.
     header_line, header = rows[0]
     names = [cell.strip().lower() for cell in header]
-    if len(names) == 1 and any(d in header[0] for d in ";\t|"):
-        raise LocatedError(path, header_line, None, "the header is one field; the file must be comma-separated")
     for required in _REQUIRED:
         if required not in names:
             raise LocatedError(path, header_line, None,
                                f"no {required!r} column; the header must name subject, rater, score (and optionally occasion), found {', '.join(names)}")
-    for name in _COLUMNS:
-        if names.count(name) > 1:
-            raise LocatedError(path, header_line, None, f"column {name!r} appears twice in the header")
     col = {name: names.index(name) for name in _COLUMNS if name in names}
     has_occasion = "occasion" in col
     subject_ids: dict[str, int] = {}
@@ -164,8 +136,6 @@ def pilot_from_rows(path: str, rows: list[tuple[int, list[str]]]) -> PilotRating
     lines: list[int] = []
     missing = 0
     for line, row in rows[1:]:
-        if len(row) != len(header):
-            raise LocatedError(path, line, None, f"the row has {len(row)} fields, the header has {len(header)}")
         subject = row[col["subject"]].strip()
         rater = row[col["rater"]].strip()
         occasion = row[col["occasion"]].strip() if has_occasion else "1"

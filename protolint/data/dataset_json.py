@@ -19,6 +19,7 @@ from typing import Any
 from protolint.data.source import LINE, RECORD, Cell, SourceTable
 from protolint.data.rawfile import MAX_CELLS, decode_text, read_limited, too_many_cells
 from protolint.data.where import DataError, Where
+from protolint.wording import plural
 
 _VERSION_1_1 = re.compile(r"^1\.1(\.(0|[1-9][0-9]*))?$")
 
@@ -103,7 +104,7 @@ def _row(path: str, place: str, row: Any, names: tuple[str, ...]) -> tuple[Cell,
     if not isinstance(row, list):
         raise DataError(Where(path, place), "a row must be an array of values in column order")
     if len(row) != len(names):
-        raise DataError(Where(path, place), f"the row has {len(row)} value(s), the columns metadata lists {len(names)}")
+        raise DataError(Where(path, place), f"the row has {plural(len(row), 'value')}, the columns metadata lists {len(names)}")
     return tuple(_cell(path, place, value, name) for value, name in zip(row, names))
 
 
@@ -119,7 +120,7 @@ def read_dataset_json(path: str) -> SourceTable:
         raise DataError(Where(path), "'rows' must be an array of row arrays")
     rows = tuple(_row(path, f"row {i}", row, names) for i, row in enumerate(raw_rows, start=1))
     if records != len(rows):
-        raise DataError(Where(path), f"'records' says {records} row(s) but the file holds {len(rows)}; the file may be truncated")
+        raise DataError(Where(path), f"'records' says {plural(records, 'row')} but the file holds {len(rows)}; the file may be truncated")
     return SourceTable(path=path, format="dataset-json", detail=detail, header=names, rows=rows,
                        row_numbers=tuple(range(1, len(rows) + 1)), header_number=0, style=RECORD)
 
@@ -138,6 +139,6 @@ def _read_ndjson(path: str, text: str) -> SourceTable:
         numbers.append(number)
     if records != len(rows):
         raise DataError(Where(path, str(first_number)),
-                        f"'records' says {records} row(s) but the file holds {len(rows)}; the file may be truncated")
+                        f"'records' says {plural(records, 'row')} but the file holds {len(rows)}; the file may be truncated")
     return SourceTable(path=path, format="dataset-json", detail=detail + " (NDJSON)", header=names, rows=tuple(rows),
                        row_numbers=tuple(numbers), header_number=first_number, style=LINE)

@@ -27,7 +27,7 @@ def reader_options(function: F | None = None, *, roles: tuple[str, ...] = ROLES)
     """
     unknown = set(roles) - set(ROLES)
     if unknown:
-        raise ValueError(f"roles: unknown role(s) {sorted(unknown)}; expected some of {ROLES}")
+        raise ValueError(f"roles: unknown {'role' if len(unknown) == 1 else 'roles'} {sorted(unknown)}; expected some of {ROLES}")
 
     def decorate(target: F) -> F:
         @functools.wraps(target)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import textwrap
+from protolint.wording import plural
 from dataclasses import dataclass
 from typing import Any
 
@@ -61,7 +62,7 @@ def provenance_lines(summary: dict[str, Any] | None) -> list[str]:
     if not summary:
         return []
     lines = [f"Input: {summary['format']} ({summary['detail']}), {summary['layout']} layout: "
-             f"{summary['rows_read']} row(s) read, {summary['rows_used']} used"]
+             f"{plural(summary['rows_read'], 'row')} read, {summary['rows_used']} used"]
     if summary["rows_skipped"]:
         lines[0] += "; skipped: " + ", ".join(f"{count} {reason}" for reason, count in summary["rows_skipped"].items())
     if summary["columns"]:

@@ -14,6 +14,7 @@ from dataclasses import dataclass, field
 
 from protolint.data.source import Cell, SourceTable, cell_text
 from protolint.data.where import DataError
+from protolint.wording import plural
 
 ROLES = ("subject", "rater", "score", "item", "occasion", "case", "reference", "date", "site")
 
@@ -187,7 +188,7 @@ def select_rows(source: SourceTable, options: ReadOptions, wanted: tuple[str, ..
     width = len(source.header)
     for index, cells in enumerate(source.rows):
         if len(cells) != width:
-            raise DataError(source.where(index), f"row has {len(cells)} field(s), the header has {width}")
+            raise DataError(source.where(index), f"row has {plural(len(cells), 'field')}, the header has {width}")
         if conditions and not _selected(cells, conditions):
             counts[filter_reason] += 1
         elif status and status_column is not None and cell_text(cells[status_column]).upper() == status[1]:

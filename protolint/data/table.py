@@ -23,6 +23,7 @@ from protolint.data.roles import ReadOptions, select_rows
 from protolint.data.source import Cell, SourceTable, cell_text, is_number_text, parse_number
 from protolint.data.text import OTHER_DELIMITERS
 from protolint.data.where import DataError, Where
+from protolint.wording import plural
 
 
 @dataclass(frozen=True)
@@ -83,7 +84,7 @@ def check_header(source: SourceTable, kind: str, min_columns: int) -> tuple[str,
     header = source.header
     where = source.header_where()
     if len(header) - 1 < min_columns:
-        raise DataError(where, f"found {len(header) - 1} {kind} column(s); expected a subject id column and at least "
+        raise DataError(where, f"found {plural(len(header) - 1, kind + ' column')}; expected a subject id column and at least "
                                f"{min_columns} {kind} columns")
     seen: dict[str, int] = {}
     for position, name in enumerate(header[1:], start=2):
@@ -109,7 +110,7 @@ def wide_rows(source: SourceTable, columns: tuple[str, ...]) -> _Grid:
             hint = ""
             if len(row) == 1 and isinstance(row[0], str) and any(d in row[0] for d in OTHER_DELIMITERS):
                 hint = "; the row does not seem to be comma-separated"
-            raise DataError(where, f"row has {len(row)} field(s), the header has {width}{hint}")
+            raise DataError(where, f"row has {plural(len(row), 'field')}, the header has {width}{hint}")
         subject = cell_text(row[0])
         if not subject:
             raise DataError(source.where(index, 0), "the subject id (first field) is empty")
@@ -122,7 +123,7 @@ def wide_rows(source: SourceTable, columns: tuple[str, ...]) -> _Grid:
         grid.cells.append(list(row[1:]))
     if len(grid.subjects) < 2:
         last = source.row_numbers[-1] if source.row_numbers else source.header_number
-        raise DataError(source.where_number(last), f"found {len(grid.subjects)} subject row(s); at least 2 are needed")
+        raise DataError(source.where_number(last), f"found {plural(len(grid.subjects), 'subject row')}; at least 2 are needed")
     return grid
 
 
@@ -169,9 +170,9 @@ def long_rows(source: SourceTable, options: ReadOptions, column_role: str, unit_
         grid.cells[i][j] = cells[score]
     if len(columns) < min_columns:
         raise DataError(source.header_where(across),
-                        f"found {len(columns)} {kind}(s) in column {source.header[across]!r}; at least {min_columns} are needed")
+                        f"found {plural(len(columns), kind)} in column {source.header[across]!r}; at least {min_columns} are needed")
     if len(grid.subjects) < 2:
-        raise DataError(source.header_where(), f"found {len(grid.subjects)} unit(s) with a score; at least 2 are needed")
+        raise DataError(source.header_where(), f"found {plural(len(grid.subjects), 'unit')} with a score; at least 2 are needed")
     mapped = tuple((role, source.header[index]) for role, index in roles.items())
     provenance = _provenance(source, "long", len(selection.rows), selection.skipped, mapped, selection.notes)
     id_header = " / ".join(source.header[roles[role]] for role in units)
@@ -235,7 +236,7 @@ def check_columns(where: Where, columns: tuple[str, ...], values: NDArray[np.flo
 def _provenance(source: SourceTable, layout: str, used: int, skipped: tuple[tuple[str, int], ...] = (),
                 columns: tuple[tuple[str, str], ...] = (), notes: tuple[str, ...] = ()) -> Provenance:
     if source.stored_formula_values:
-        notes = (*notes, f"{source.stored_formula_values} formula cell(s) read as the values the workbook stored "
+        notes = (*notes, f"{plural(source.stored_formula_values, 'formula cell')} read as the values the workbook stored "
                          "(formulas are not evaluated)")
     return Provenance(file=source.path, format=source.format, detail=source.detail, layout=layout,
                       rows_read=len(source.rows), rows_used=used, skipped=skipped, columns=columns, notes=notes)

@@ -128,10 +128,10 @@ def test_output_file_is_written_and_stdout_stays_empty(tmp_path: Path) -> None:
 BAD_FILES = {
     "empty.csv": ("", ":1:0: the file is empty"),
     "semicolons.csv": ("subject;a;b\n1;2;3\n2;3;4\n", ":1:0: the header is one field containing semicolons"),
-    "ragged.csv": ("subject,a,b\n1,2,3\n2,3\n", ":3:0: row has 2 field(s), the header has 3"),
+    "ragged.csv": ("subject,a,b\n1,2,3\n2,3\n", ":3:0: row has 2 fields, the header has 3"),
     "text.csv": ("subject,a,b\n1,2,3\n2,3,high\n", ":3:0: column 'b': 'high' is not a number (the scale is interval)"),
-    "one_rater.csv": ("subject,a\n1,2\n2,3\n", ":1:0: found 1 rater column(s)"),
-    "one_subject.csv": ("subject,a,b\n1,2,3\n", ":2:0: found 1 subject row(s); at least 2 are needed"),
+    "one_rater.csv": ("subject,a\n1,2\n2,3\n", ":1:0: found 1 rater column;"),
+    "one_subject.csv": ("subject,a,b\n1,2,3\n", ":2:0: found 1 subject row; at least 2 are needed"),
     "duplicate.csv": ("subject,a,b\n1,2,3\n1,3,4\n", ":3:0: subject '1' appears again (first on line 2)"),
     "infinite.csv": ("subject,a,b\n1,2,inf\n2,3,4\n", ":2:0: column 'b': 'inf' is not a finite number"),
     "empty_column.csv": ("subject,a,b\n1,2,\n2,3,\n", ":1:0: rater column 'b' has no values"),

@@ -77,7 +77,7 @@ def test_missing_answers_are_dropped_and_reported(tmp_path: Path) -> None:
         ("", ":1:0: the file is empty"),
         ("id,q1,q2\n1,2,3\n2,x,4\n", ":3:0: column 'q1': 'x' is not a number"),
         ("id\tq1\tq2\n1\t2\t3\n", ":1:0: the header is one field containing tabs"),
-        ("id,q1\n1,2\n2,3\n", ":1:0: found 1 item column(s)"),
+        ("id,q1\n1,2\n2,3\n", ":1:0: found 1 item column;"),
     ],
 )
 def test_bad_items_file(tmp_path: Path, content: str, expected: str) -> None:

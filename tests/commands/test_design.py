@@ -219,7 +219,7 @@ def test_coefficient_follows_the_rating_arrangement() -> None:
 @pytest.mark.parametrize(("content", "message"), [
     ("", "pilot.csv:1:0: the file is empty"),
     ("subject,judge,score\nA,R1,3\n", "pilot.csv:1:0: no 'rater' column"),
-    ("subject,rater,score\nA,R1,3\nA,R2\n", "pilot.csv:3:0: the row has 2 fields, the header has 3"),
+    ("subject,rater,score\nA,R1,3\nA,R2\n", "pilot.csv:3:0: row has 2 fields, the header has 3"),
     ("subject,rater,score\nA,R1,3\nA,R2,high\n", "pilot.csv:3:0: score 'high' is not a number"),
     ("subject,rater,score\nA,R1,3\nB,R1,4\nA,R1,5\n", "pilot.csv:4:0: subject 'A', rater 'R1' is already rated on line 2"),
     ("subject,rater,score\nA,,3\n", "pilot.csv:2:0: empty rater"),

@@ -246,7 +246,7 @@ def test_formula_with_stored_value_is_read_as_stored(tmp_path: Path) -> None:
                 assert b"<v>4</v>" in data, data
             target.writestr(item, data)
     report = run_json("agreement", patched)
-    assert report["input"]["notes"] == ["1 formula cell(s) read as the values the workbook stored (formulas are not evaluated)"]
+    assert report["input"]["notes"] == ["1 formula cell read as the values the workbook stored (formulas are not evaluated)"]
 
 
 def test_dataset_json_column_count_mismatch_is_located(tmp_path: Path) -> None:
@@ -255,12 +255,12 @@ def test_dataset_json_column_count_mismatch_is_located(tmp_path: Path) -> None:
     path = tmp_path / "bad.json"
     path.write_text(json.dumps(document), encoding="utf-8")
     code, _, err = run("agreement", path)
-    assert code == 2 and err.strip() == f"{path}:row 3: the row has 4 value(s), the columns metadata lists 5"
+    assert code == 2 and err.strip() == f"{path}:row 3: the row has 4 values, the columns metadata lists 5"
     meta = {k: v for k, v in document.items() if k != "rows"}
     nd = tmp_path / "bad.ndjson"
     nd.write_text("\n".join([json.dumps(meta), *(json.dumps(r) for r in document["rows"])]) + "\n", encoding="utf-8")
     code, _, err = run("agreement", nd)
-    assert code == 2 and err.strip() == f"{nd}:4:0: the row has 4 value(s), the columns metadata lists 5"
+    assert code == 2 and err.strip() == f"{nd}:4:0: the row has 4 values, the columns metadata lists 5"
 
 
 def test_dataset_json_truncated_and_old_version(tmp_path: Path) -> None:
@@ -274,7 +274,7 @@ def test_dataset_json_truncated_and_old_version(tmp_path: Path) -> None:
     path = tmp_path / "short.json"
     path.write_text(json.dumps(short), encoding="utf-8")
     code, _, err = run("agreement", path)
-    assert code == 2 and "'records' says 6 row(s) but the file holds 4" in err
+    assert code == 2 and "'records' says 6 rows but the file holds 4" in err
     del short["records"]
     path.write_text(json.dumps(short), encoding="utf-8")
     code, _, err = run("agreement", path)
@@ -321,7 +321,7 @@ def test_text_report_shows_what_was_read_and_skipped(tmp_path: Path) -> None:
     code, out, err = run("agreement", path, "--columns", "sdtm-qs", "--where", "QSCAT=INVENTED-8", "--where", "QSTESTCD=TOTAL")
     assert code == 0, err
     summary = " ".join(line.strip() for line in out.split("\n\n")[0].splitlines()[2:])
-    assert ("Input: xpt (SAS transport v5, dataset RATINGS), long layout: 67 row(s) read, 16 used; skipped: 49 not selected by "
+    assert ("Input: xpt (SAS transport v5, dataset RATINGS), long layout: 67 rows read, 16 used; skipped: 49 not selected by "
             "--where QSCAT=INVENTED-8 QSTESTCD=TOTAL, 1 not done (QSSTAT=NOT DONE), 1 missing score (QSSTRESN)") in summary
     assert max(len(line) for line in out.split("\n\n")[0].splitlines()[2:]) <= 100
     assert "Columns: subject=USUBJID, item=QSTESTCD, occasion=VISITNUM, rater=QSEVALID, score=QSSTRESN" in summary
