@@ -18,6 +18,7 @@ from typing import TYPE_CHECKING, Any
 from protolint import CAUTION
 from protolint.errors import ProtolintError
 from protolint.stats.bands import KOO_LI_2016, LANDIS_KOCH_1977, BandScale
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     import numpy as np
@@ -253,7 +254,7 @@ def _label(value: float, labels: tuple[str, ...] | None) -> str:
 
 def _interval(low: float, high: float, method: str, n: int) -> tuple[Interval | None, str | None]:
     if not (math.isfinite(low) and math.isfinite(high)) or high - low <= 1e-12:
-        return None, (f"no interval: with {_plural(n, 'subject')} the standard error is 0 or undefined, which says "
+        return None, (f"no interval: with {plural(n, 'subject')} the standard error is 0 or undefined, which says "
                       "nothing about precision")
     return Interval(low, high, method), None
 
@@ -321,13 +322,13 @@ def analyse(
     def dropped_note(label: str, dropped: int, used: int) -> None:
         if dropped:
             notes.append(
-                f"{label}: {dropped} subject{'s' if dropped != 1 else ''} with a missing rating dropped; "
-                f"{used} complete subject{'s' if used != 1 else ''} used."
+                f"{label}: {plural(dropped, 'subject')} with a missing rating dropped; "
+                f"{plural(used, 'complete subject')} used."
             )
 
     if table.missing:
         notes.append(
-            f"{_plural(table.missing, 'rating')} of {values.size} {'is' if table.missing == 1 else 'are'} missing; the "
+            f"{plural(table.missing, 'rating')} of {values.size} {'is' if table.missing == 1 else 'are'} missing; the "
             "Subjects and Ratings columns show what each coefficient used."
         )
     if scale == "interval":
@@ -436,7 +437,7 @@ def analyse(
     if few:
         counts = sorted(few)
         names = [name for n in counts for name in few[n]]
-        span = _plural(counts[0], "subject") if len(counts) == 1 else f"{counts[0]} to {counts[-1]} subjects"
+        span = plural(counts[0], "subject") if len(counts) == 1 else f"{counts[0]} to {counts[-1]} subjects"
         what = "All coefficients rest" if len(names) == len(coefficients) else f"{_join(names)} {'rest' if len(names) > 1 else 'rests'}"
         warnings.append(
             f"{what} on {span}; fewer than {FEW_SUBJECTS} subjects give wide intervals and unstable bands (common "
@@ -495,10 +496,6 @@ def _fmt(x: float) -> str:
     return f"{x:6.3f}"
 
 
-def _plural(n: int, word: str) -> str:
-    return f"{n} {word}{'' if n == 1 else 's'}"
-
-
 def format_text(report: AgreementReport, width: int = 100) -> str:
     """The report as a table a statistician can read without the JSON beside it."""
     import textwrap
@@ -509,11 +506,11 @@ def format_text(report: AgreementReport, width: int = 100) -> str:
         return textwrap.wrap(text, width=width, initial_indent=indent, subsequent_indent=indent + "  " if indent else "")
 
     level = f"{round(report.confidence * 100, 4):g}%"
-    what = "counts read as a contingency table of two raters" if report.read_as_table else _plural(report.raters, "rater")
+    what = "counts read as a contingency table of two raters" if report.read_as_table else plural(report.raters, "rater")
     lines = [
         f"Agreement in {report.file}",
-        f"{_plural(report.subjects, 'subject')} x {what}, {report.scale} scale, "
-        f"{_plural(report.missing, 'missing rating')}; {level} confidence intervals.",
+        f"{plural(report.subjects, 'subject')} x {what}, {report.scale} scale, "
+        f"{plural(report.missing, 'missing rating')}; {level} confidence intervals.",
         *provenance_lines(report.input),
     ]
     if report.categories is not None:

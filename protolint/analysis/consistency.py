@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 
 from protolint import CAUTION
 from protolint.errors import ProtolintError
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.data import RatingTable, ReadOptions
@@ -123,7 +124,7 @@ def analyse(table: RatingTable, confidence: float = 0.95) -> ConsistencyReport:
     notes = []
     if result.n_dropped:
         notes.append(
-            f"{result.n_dropped} respondent{'s' if result.n_dropped != 1 else ''} with a missing item dropped; "
+            f"{plural(result.n_dropped, 'respondent')} with a missing item dropped; "
             f"{result.n_respondents} used."
         )
     return ConsistencyReport(

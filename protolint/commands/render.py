@@ -52,8 +52,9 @@ def _refuse_draft(kind: str, errors: tuple[Finding, ...]) -> None:
     """--final with open errors: list them as located lines on stderr, write nothing, exit 1."""
     from protolint.report.fmt_text import finding_line
 
-    count = len(errors)
-    click.echo(f"protolint: render {kind} --final: the plan has {count} open error{'s' if count != 1 else ''}; "
+    from protolint.wording import plural
+
+    click.echo(f"protolint: render {kind} --final: the plan has {plural(len(errors), 'open error')}; "
                "nothing was written", err=True)
     for finding in errors:
         click.echo(finding_line(finding), err=True)

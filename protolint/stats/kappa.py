@@ -11,6 +11,7 @@ from numpy.typing import ArrayLike
 from protolint.stats import _checks
 from protolint.stats._results import ConfidenceInterval
 from protolint.stats.gwet import _gwet_terms, _t_interval, interval_warning
+from protolint.wording import plural
 
 MISSING = ("available", "complete")
 
@@ -373,7 +374,7 @@ def fleiss_kappa(
         single = int((r_i == 1).sum())
         warnings.append(
             "the number of ratings varies between subjects"
-            + (f" ({single} subject{'s' if single != 1 else ''} rated once inform the category proportions only)" if single else "")
+            + (f" ({plural(single, 'subject')} rated once inform the category proportions only)" if single else "")
             + "; the null-hypothesis test of Fleiss, Nee & Landis (1979) needs a constant number and is not given"
         )
     per_category = tuple(
