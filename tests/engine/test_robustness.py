@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import copy
 import random
-from typing import Any, Iterator
 
 import pytest
 import yaml
@@ -17,20 +16,10 @@ import yaml
 from protolint.plan import load_plan
 from protolint.plan.source import load_source
 from protolint.rules.engine import check_loaded
+from tests.plan_tree import leaves, parent_of
 
 EDGE_NUMBERS = (0, 1, -1, 0.0001, 0.5, 0.99, 1.0, 2, 10, 100, 1000)
 EDGE_DATES = ("2020-01-01", "2030-12-31", "2026-09-01", "2026-02-28")
-
-
-def leaves(node: Any, path: tuple = ()) -> Iterator[tuple[tuple, Any]]:
-    if isinstance(node, dict):
-        for key, value in node.items():
-            yield from leaves(value, path + (key,))
-    elif isinstance(node, list):
-        for index, value in enumerate(node):
-            yield from leaves(value, path + (index,))
-    else:
-        yield path, node
 
 
 def mutate(plan: dict, rng: random.Random) -> dict:
@@ -38,10 +27,8 @@ def mutate(plan: dict, rng: random.Random) -> dict:
     places = list(leaves(plan))
     for _ in range(rng.randint(1, 4)):
         path, value = rng.choice(places)
-        parent = plan
         try:
-            for part in path[:-1]:
-                parent = parent[part]
+            parent = parent_of(plan, path)
             if rng.random() < 0.2:
                 if isinstance(parent, dict):
                     parent.pop(path[-1], None)
