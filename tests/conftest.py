@@ -25,6 +25,14 @@ def write_demo_plan(path: Path, text: str) -> Path:
     return path
 
 
+def assert_one_line_error(exit_code: int, stderr: str, fragment: str = "") -> None:
+    """The command line's contract for bad input: exit 2, one line on stderr, no traceback."""
+    assert exit_code == 2, stderr
+    assert "Traceback" not in stderr, stderr[-2000:]
+    assert len(stderr.splitlines()) == 1, stderr[-2000:]
+    assert fragment in stderr, stderr
+
+
 @pytest.fixture
 def repo_root() -> Path:
     return REPO

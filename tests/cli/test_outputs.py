@@ -21,6 +21,7 @@ import pytest
 
 from protolint import atomic
 from protolint.errors import ProtolintError
+from tests.conftest import assert_one_line_error
 
 ROOT = Path(__file__).parents[2]
 DEMO_PLAN = ROOT / "demo_protocol" / "plan.yaml"
@@ -33,10 +34,7 @@ def run(*args: str | Path, cwd: Path | None = None) -> subprocess.CompletedProce
 
 
 def one_line_error(result: subprocess.CompletedProcess[str], fragment: str) -> None:
-    assert result.returncode == 2, result.stderr
-    assert "Traceback" not in result.stderr
-    assert len(result.stderr.splitlines()) == 1, result.stderr
-    assert fragment in result.stderr
+    assert_one_line_error(result.returncode, result.stderr, fragment)
 
 
 @pytest.fixture
