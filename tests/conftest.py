@@ -68,12 +68,13 @@ def cli():
     return run
 
 
+def run_protolint(*args: str | Path, cwd: Path | None = None, env: dict | None = None) -> subprocess.CompletedProcess:
+    """Run ``python -m protolint`` in a real process (exit codes, stderr, signals, no traceback)."""
+    return subprocess.run([sys.executable, "-m", "protolint", *map(str, args)], capture_output=True,
+                          text=True, cwd=cwd or REPO, env=env, timeout=120)
+
+
 @pytest.fixture
 def cli_process():
-    """Run ``python -m protolint`` in a real process (exit codes, stderr, no traceback)."""
-
-    def run(*args: str, cwd: Path | None = None, env: dict | None = None) -> subprocess.CompletedProcess:
-        return subprocess.run([sys.executable, "-m", "protolint", *map(str, args)], capture_output=True,
-                              text=True, cwd=cwd or REPO, env=env, timeout=120)
-
-    return run
+    """``run_protolint`` as a fixture."""
+    return run_protolint
