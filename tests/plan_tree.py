@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import copy
+import random
 from typing import Any, Iterator
 
 
@@ -22,3 +24,32 @@ def parent_of(node: Any, path: tuple) -> Any:
     for part in path[:-1]:
         node = node[part]
     return node
+
+
+EDGE_NUMBERS = (0, 1, -1, 0.0001, 0.5, 0.99, 1.0, 2, 10, 100, 1000)
+EDGE_DATES = ("2020-01-01", "2030-12-31", "2026-09-01", "2026-02-28")
+
+
+def mutate(plan: dict, rng: random.Random) -> dict:
+    """A copy of ``plan`` with 1-4 seeded edits: a key or item removed, a boolean flipped, a
+    number pushed to an edge, a date moved."""
+    plan = copy.deepcopy(plan)
+    places = list(leaves(plan))
+    for _ in range(rng.randint(1, 4)):
+        path, value = rng.choice(places)
+        try:
+            parent = parent_of(plan, path)
+            if rng.random() < 0.2:
+                if isinstance(parent, dict):
+                    parent.pop(path[-1], None)
+                elif len(parent) > 1:
+                    parent.pop(path[-1])
+            elif isinstance(value, bool):
+                parent[path[-1]] = not value
+            elif isinstance(value, (int, float)):
+                parent[path[-1]] = rng.choice(EDGE_NUMBERS + (value * 2, value / 3))
+            elif isinstance(value, str) and len(value) == 10 and value[4] == "-":
+                parent[path[-1]] = rng.choice(EDGE_DATES)
+        except (KeyError, IndexError, TypeError):
+            continue  # an earlier mutation removed this place
+    return plan

@@ -19,8 +19,7 @@ from protolint.plan import load_plan
 from protolint.plan.schema import PLAN_SCHEMA, is_calendar_date, passes_screen, validator_for
 from protolint.plan.source import load_source
 from protolint.rules.policy import POLICY_SCHEMA
-from tests.engine.test_robustness import mutate
-from tests.plan_tree import parent_of
+from tests.plan_tree import mutate, parent_of
 from tests.rules._cases import BASE, build_case, case_files
 
 
