@@ -25,6 +25,14 @@ def write_demo_plan(path: Path, text: str) -> Path:
     return path
 
 
+def assert_one_line_error(exit_code: int, stderr: str, fragment: str = "") -> None:
+    """The command line's contract for bad input: exit 2, one line on stderr, no traceback."""
+    assert exit_code == 2, stderr
+    assert "Traceback" not in stderr, stderr[-2000:]
+    assert len(stderr.splitlines()) == 1, stderr[-2000:]
+    assert fragment in stderr, stderr
+
+
 @pytest.fixture
 def repo_root() -> Path:
     return REPO
@@ -60,12 +68,13 @@ def cli():
     return run
 
 
+def run_protolint(*args: str | Path, cwd: Path | None = None, env: dict | None = None) -> subprocess.CompletedProcess:
+    """Run ``python -m protolint`` in a real process (exit codes, stderr, signals, no traceback)."""
+    return subprocess.run([sys.executable, "-m", "protolint", *map(str, args)], capture_output=True,
+                          text=True, cwd=cwd or REPO, env=env, timeout=120)
+
+
 @pytest.fixture
 def cli_process():
-    """Run ``python -m protolint`` in a real process (exit codes, stderr, no traceback)."""
-
-    def run(*args: str, cwd: Path | None = None, env: dict | None = None) -> subprocess.CompletedProcess:
-        return subprocess.run([sys.executable, "-m", "protolint", *map(str, args)], capture_output=True,
-                              text=True, cwd=cwd or REPO, env=env, timeout=120)
-
-    return run
+    """``run_protolint`` as a fixture."""
+    return run_protolint

@@ -145,7 +145,8 @@ def _simulated(tmp_path: Path, raters: int, rounds: int, shift_sd: float, seed: 
 
 def test_simulated_one_sd_shift_is_flagged_within_the_promised_run_length(tmp_path: Path) -> None:
     # 100 raters shifted by 1 SD from the first round, 40 rounds, CUSUM k = 0.5, h = 4: the mean
-    # round of the first signal must be within 4 simulation SEs of the promised ARL (8.38).
+    # round of the first signal must be within 4 simulation SEs of the promised ARL (8.38:
+    # Lucas & Crosier 1982 Table 1; Montgomery, Introduction to Statistical Quality Control, Table 9.3).
     report = analyse(read_ratings(_simulated(tmp_path, 100, 40, 1.0, 11)), None,
                      Options(scale_sd=1.0, h=4.0, max_deviation=10))
     first = []

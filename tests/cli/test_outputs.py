@@ -21,22 +21,16 @@ import pytest
 
 from protolint import atomic
 from protolint.errors import ProtolintError
+from tests.conftest import assert_one_line_error
+from tests.conftest import run_protolint as run
 
 ROOT = Path(__file__).parents[2]
 DEMO_PLAN = ROOT / "demo_protocol" / "plan.yaml"
 RATINGS = "subject,r1,r2\nS01,3,4\nS02,2,5\nS03,4,4\nS04,1,2\n"
 
 
-def run(*args: str | Path, cwd: Path | None = None) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([sys.executable, "-m", "protolint", *map(str, args)], capture_output=True, text=True,
-                          cwd=cwd or ROOT, timeout=120)
-
-
 def one_line_error(result: subprocess.CompletedProcess[str], fragment: str) -> None:
-    assert result.returncode == 2, result.stderr
-    assert "Traceback" not in result.stderr
-    assert len(result.stderr.splitlines()) == 1, result.stderr
-    assert fragment in result.stderr
+    assert_one_line_error(result.returncode, result.stderr, fragment)
 
 
 @pytest.fixture

@@ -12,17 +12,12 @@ from click.testing import CliRunner
 
 from protolint.analysis.agreement import MAX_BOOTSTRAP, MAX_CATEGORIES
 from protolint.cli import main
+from tests.conftest import assert_one_line_error
 
 
 def run(*args: str | Path) -> tuple[int, str, str]:
     result = CliRunner().invoke(main, [str(a) for a in args], catch_exceptions=False)
     return result.exit_code, result.stdout, result.stderr
-
-
-def one_line(code: int, err: str, fragment: str) -> None:
-    assert code == 2, err
-    assert len(err.splitlines()) == 1, err
-    assert fragment in err
 
 
 def write(path: Path, rows: list[list[object]]) -> Path:
@@ -48,7 +43,7 @@ def test_kappa_type_coefficients_are_left_out_beyond_the_category_bound(tmp_path
 def test_values_near_the_largest_float_are_refused_where_they_are(tmp_path: Path) -> None:
     path = write(tmp_path / "huge.csv", [["subject", "a", "b"], ["S1", "1e305", "2e305"], ["S2", "1.5e305", "3e305"]])
     code, _, err = run("agreement", path)
-    one_line(code, err, f"{path}:2:0: column 'a': '1e305' is beyond ±1e15")
+    assert_one_line_error(code, err, f"{path}:2:0: column 'a': '1e305' is beyond ±1e15")
 
 
 def test_values_just_inside_the_bound_give_finite_coefficients(tmp_path: Path) -> None:
@@ -63,12 +58,12 @@ def test_values_just_inside_the_bound_give_finite_coefficients(tmp_path: Path) -
 def test_category_range_bootstrap_and_table_counts_are_bounded(tmp_path: Path) -> None:
     ratings = write(tmp_path / "r.csv", [["subject", "a", "b"], ["S1", 1, 2], ["S2", 2, 2], ["S3", 3, 1]])
     code, _, err = run("agreement", ratings, "--scale", "ordinal", "--categories", "0-1000000000")
-    one_line(code, err, "a category set has at most 10,000")
+    assert_one_line_error(code, err, "a category set has at most 10,000")
     code, _, err = run("agreement", ratings, "--bootstrap", str(MAX_BOOTSTRAP + 1))
-    one_line(code, err, f"up to {MAX_BOOTSTRAP:,}")
+    assert_one_line_error(code, err, f"up to {MAX_BOOTSTRAP:,}")
     table = write(tmp_path / "table.csv", [["", "0", "1"], ["0", "900000000", "1"], ["1", "1", "900000000"]])
     code, _, err = run("agreement", table, "--table", "--scale", "nominal")
-    one_line(code, err, "--table reads at most")
+    assert_one_line_error(code, err, "--table reads at most")
 
 
 @pytest.mark.parametrize("args, fragment", [
@@ -81,16 +76,16 @@ def test_category_range_bootstrap_and_table_counts_are_bounded(tmp_path: Path) -
 ])
 def test_size_refuses_values_beyond_its_bounds_with_one_line(args: list[str], fragment: str) -> None:
     code, _, err = run("size", *args)
-    one_line(code, err, fragment)
+    assert_one_line_error(code, err, fragment)
 
 
 def test_design_search_and_crossed_array_are_bounded(tmp_path: Path) -> None:
     pilot = write(tmp_path / "pilot.csv", [["subject", "rater", "score"],
                                            *[[f"P{i}", f"R{j}", (i + j) % 5] for i in range(6) for j in range(3)]])
     code, _, err = run("design", pilot, "--effect-size", "0.4", "--cost-participant", "10", "--max-raters", "1000000")
-    one_line(code, err, "must be between 1 and 50")
+    assert_one_line_error(code, err, "must be between 1 and 50")
     code, _, err = run("design", pilot, "--effect-size", "0.4", "--cost-participant", "inf")
-    one_line(code, err, "costs must be between 0 and 1e12")
+    assert_one_line_error(code, err, "costs must be between 0 and 1e12")
 
 
 @pytest.mark.parametrize("command", ["agreement", "consistency", "drift", "design", "size"])

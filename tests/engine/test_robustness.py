@@ -7,9 +7,7 @@ traceback a user would see for input the schema accepted.
 
 from __future__ import annotations
 
-import copy
 import random
-from typing import Any, Iterator
 
 import pytest
 import yaml
@@ -17,45 +15,7 @@ import yaml
 from protolint.plan import load_plan
 from protolint.plan.source import load_source
 from protolint.rules.engine import check_loaded
-
-EDGE_NUMBERS = (0, 1, -1, 0.0001, 0.5, 0.99, 1.0, 2, 10, 100, 1000)
-EDGE_DATES = ("2020-01-01", "2030-12-31", "2026-09-01", "2026-02-28")
-
-
-def leaves(node: Any, path: tuple = ()) -> Iterator[tuple[tuple, Any]]:
-    if isinstance(node, dict):
-        for key, value in node.items():
-            yield from leaves(value, path + (key,))
-    elif isinstance(node, list):
-        for index, value in enumerate(node):
-            yield from leaves(value, path + (index,))
-    else:
-        yield path, node
-
-
-def mutate(plan: dict, rng: random.Random) -> dict:
-    plan = copy.deepcopy(plan)
-    places = list(leaves(plan))
-    for _ in range(rng.randint(1, 4)):
-        path, value = rng.choice(places)
-        parent = plan
-        try:
-            for part in path[:-1]:
-                parent = parent[part]
-            if rng.random() < 0.2:
-                if isinstance(parent, dict):
-                    parent.pop(path[-1], None)
-                elif len(parent) > 1:
-                    parent.pop(path[-1])
-            elif isinstance(value, bool):
-                parent[path[-1]] = not value
-            elif isinstance(value, (int, float)):
-                parent[path[-1]] = rng.choice(EDGE_NUMBERS + (value * 2, value / 3))
-            elif isinstance(value, str) and len(value) == 10 and value[4] == "-":
-                parent[path[-1]] = rng.choice(EDGE_DATES)
-        except (KeyError, IndexError, TypeError):
-            continue  # an earlier mutation removed this place
-    return plan
+from tests.plan_tree import mutate
 
 
 @pytest.mark.parametrize("seed", range(3))

@@ -19,7 +19,7 @@ from protolint.plan import load_plan
 from protolint.plan.schema import PLAN_SCHEMA, is_calendar_date, passes_screen, validator_for
 from protolint.plan.source import load_source
 from protolint.rules.policy import POLICY_SCHEMA
-from tests.engine.test_robustness import mutate
+from tests.plan_tree import mutate, parent_of
 from tests.rules._cases import BASE, build_case, case_files
 
 
@@ -78,14 +78,12 @@ def test_seeded_mutations_get_the_same_verdict_from_both(demo_plan, seed):
     (("endpoints", 0, "blinded_to"), ["treatment", "treatment"]),
     (("waivers",), []),
 ])
-def test_edge_values_are_never_passed_by_the_screen_alone(demo_plan, place, value):
+def test_edge_values_get_the_same_verdict_from_both(demo_plan, place, value):
+    # The same verdict, not only "valid by the screen implies valid": a screen that refused
+    # everything would pass that for the ten invalid values here (1.0 and [] are valid).
     data = copy.deepcopy(data_of(demo_plan))
-    parent = data
-    for part in place[:-1]:
-        parent = parent[part]
-    parent[place[-1]] = value
-    if passes_screen(data):
-        assert located_valid(data)
+    parent_of(data, place)[place[-1]] = value
+    assert passes_screen(data) is located_valid(data)
 
 
 def test_a_plan_the_screen_cannot_take_still_gets_its_located_finding(demo_plan):

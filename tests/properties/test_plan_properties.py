@@ -22,6 +22,7 @@ from hypothesis import strategies as st
 
 from protolint.errors import LocatedError
 from protolint.plan.source import load_source
+from tests.conftest import assert_one_line_error
 
 BASE = Path(__file__).resolve().parents[1] / "corpus" / "plans" / "base.yaml"
 BASE_TEXT = BASE.read_text(encoding="utf-8")
@@ -66,10 +67,9 @@ def mutated(changes: list[tuple[int, str, str]]) -> str:
     return "".join(lines)
 
 
-def assert_one_located_line(stderr: str, path: Path) -> None:
-    lines = stderr.splitlines()
-    assert len(lines) == 1 and "Traceback" not in stderr, stderr[-2000:]
-    assert re.match(rf"^{re.escape(str(path))}:\d+:\d+: \S", lines[0]), lines[0]
+def assert_one_located_line(exit_code: int, stderr: str, path: Path) -> None:
+    assert_one_line_error(exit_code, stderr)
+    assert re.match(rf"^{re.escape(str(path))}:\d+:\d+: \S", stderr), stderr
 
 
 def run(*args: object):
@@ -109,7 +109,7 @@ def test_check_render_calendar_and_diff_exit_0_1_or_2(tmp_path_factory, changes)
     check = run("check", path, "--format", "json")
     assert check.exit_code in (0, 1, 2), check.stderr[-2000:]
     if check.exit_code == 2:
-        assert_one_located_line(check.stderr, path)
+        assert_one_located_line(check.exit_code, check.stderr, path)
         assert json.loads(check.stdout)["execution_successful"] is False
     else:
         report = json.loads(check.stdout)
@@ -121,6 +121,6 @@ def test_check_render_calendar_and_diff_exit_0_1_or_2(tmp_path_factory, changes)
         result = run(*args)
         assert result.exit_code in (0, 1, 2), (args[:2], result.stderr[-2000:])
         if result.exit_code == 2:
-            assert_one_located_line(result.stderr, path)
+            assert_one_located_line(result.exit_code, result.stderr, path)
             if args[0] != "diff":
                 assert not Path(args[-1]).exists()

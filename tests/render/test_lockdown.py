@@ -36,6 +36,7 @@ import yaml
 from protolint.plan import load_plan, read_plan_file
 from protolint.plan.source import load_source
 from protolint.render import FORMATS, KINDS, render
+from tests.plan_tree import leaves, parent_of
 from tests.render.test_hostile import _Recorder  # the recording HTTP server's handler
 
 REPO = Path(__file__).resolve().parents[2]
@@ -70,21 +71,8 @@ _SHORT_PAYLOAD = (' <img src="{file}"> <style>@import "{leak}/s.css"</style> ![n
 _SOP_TEXT = "# Heading\n\nSOP text with every kind of reference.\n" + _PAYLOAD + "\n## Second heading\n\n" + _PAYLOAD
 
 
-def _leaves(data: Any, path: tuple = ()) -> Iterator[tuple[tuple, Any]]:
-    if isinstance(data, dict):
-        for key, value in data.items():
-            yield from _leaves(value, path + (key,))
-    elif isinstance(data, list):
-        for index, value in enumerate(data):
-            yield from _leaves(value, path + (index,))
-    else:
-        yield path, data
-
-
 def _set(data: Any, path: tuple, value: Any) -> None:
-    for part in path[:-1]:
-        data = data[part]
-    data[path[-1]] = value
+    parent_of(data, path)[path[-1]] = value
 
 
 def _pointer_path(pointer: str) -> tuple:
@@ -101,7 +89,7 @@ def hostile_plan_text(payloads: tuple[str, ...]) -> tuple[str, int]:
     those get the next payload, then are put back.
     """
     data = load_source(DEMO.read_bytes(), str(DEMO)).data
-    original = {path: value for path, value in _leaves(data) if isinstance(value, str) and path[-1] != "rule"}
+    original = {path: value for path, value in leaves(data) if isinstance(value, str) and path[-1] != "rule"}
     stage = dict.fromkeys(original, 0)
     for path, value in original.items():
         _set(data, path, value + payloads[0])
