@@ -6,23 +6,15 @@ from __future__ import annotations
 import json
 import math
 import sys
-from datetime import date
 from typing import Any, Callable, TypeVar
 
 import click
 
-from protolint.commands.base import ProtolintCommand
+from protolint.commands.base import ProtolintCommand, parse_date_option
 from protolint.errors import ProtolintError
 
 
 F = TypeVar("F", bound=Callable[..., Any])
-
-
-def parse_as_of(ctx: click.Context, param: click.Parameter, value: str | None) -> date | None:
-    """``--as-of``: exactly YYYY-MM-DD (see ``commands.base.parse_date_option``)."""
-    from protolint.commands.base import parse_date_option
-
-    return parse_date_option(ctx, param, value)
 
 
 def check_options(as_of_help: str = "Date the date rules compare with (default: each plan's plan_date).") -> Callable[[F], F]:
@@ -30,7 +22,7 @@ def check_options(as_of_help: str = "Date the date rules compare with (default: 
     (check, render, calendar, diff), so a document or a comparison is made under exactly the
     policy and date a CI check used."""
     def decorate(command: F) -> F:
-        command = click.option("--as-of", callback=parse_as_of, metavar="YYYY-MM-DD", help=as_of_help)(command)
+        command = click.option("--as-of", callback=parse_date_option, metavar="YYYY-MM-DD", help=as_of_help)(command)
         return click.option("--policy", type=click.Path(dir_okay=False),
                             help="Policy file that switches rules off or changes severities and thresholds.")(command)
     return decorate
