@@ -17,6 +17,7 @@ import hashlib
 import re
 from dataclasses import dataclass
 
+from protolint.bounded import read_at_most
 from protolint.data.where import DataError, Where, file_error
 
 # The largest data file read, and the most cells (values) taken from it. A trial's full export
@@ -33,8 +34,6 @@ LIMITS_HELP = (f"Limits: a data file of at most {MAX_DATA_BYTES // (1024 * 1024)
 def too_many_cells(where: Where) -> DataError:
     return DataError(where, f"more than {MAX_CELLS:,} cells (values) in the file, the most an analysis reads; "
                             "select the rows to analyse (e.g. one instrument or visit) before exporting")
-
-_CHUNK = 1024 * 1024
 
 _BOMS = {
     codecs.BOM_UTF32_LE: "UTF-32", codecs.BOM_UTF32_BE: "UTF-32",
@@ -65,20 +64,13 @@ def read_limited(path: str, limit: int = MAX_DATA_BYTES) -> RawFile:
     """The file's bytes; a file larger than ``limit`` is refused after reading ``limit + 1`` bytes."""
     try:
         with open(path, "rb") as stream:
-            chunks: list[bytes] = []
-            size = 0
-            while size <= limit:
-                chunk = stream.read(min(_CHUNK, limit + 1 - size))
-                if not chunk:
-                    break
-                chunks.append(chunk)
-                size += len(chunk)
+            data = read_at_most(stream.read, limit)
     except OSError as error:
         raise file_error(path, error) from None
-    if size > limit:
+    if len(data) > limit:
         raise DataError(Where(path), f"the file is larger than {mib(limit)}, the most a data file may hold; "
                                      "split it or select the rows to analyse before exporting")
-    return RawFile(path, b"".join(chunks))
+    return RawFile(path, data)
 
 
 def _line_column(text_before: str) -> tuple[int, int]:

@@ -23,6 +23,7 @@ control; nothing else reads these files.
 
 from __future__ import annotations
 
+import functools
 import hashlib
 import os
 import re
@@ -31,6 +32,7 @@ from dataclasses import dataclass
 from pathlib import Path as FilePath
 from pathlib import PurePosixPath
 
+from protolint.bounded import read_at_most
 from protolint.findings import Finding, Severity, finding_at
 from protolint.plan.source import LoadedSource, Path
 
@@ -44,7 +46,6 @@ RULE_UNREADABLE = "schema/text-file-unreadable"
 # Control characters other than tab, line feed and carriage return; Markdown has no use for
 # them and a terminal or a PDF viewer might.
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
-_CHUNK = 64 * 1024
 
 
 @dataclass(frozen=True)
@@ -142,19 +143,13 @@ def _relative_path(written: str) -> PurePosixPath:
 
 
 def _read_bounded(descriptor: int, limit: int) -> bytes:
-    chunks: list[bytes] = []
-    size = 0
-    while True:
-        try:
-            chunk = os.read(descriptor, min(_CHUNK, limit + 1 - size))
-        except OSError as error:
-            raise TextFileRefused(RULE_UNREADABLE, f"cannot read: {error.strerror}") from None
-        if not chunk:
-            return b"".join(chunks)
-        chunks.append(chunk)
-        size += len(chunk)
-        if size > limit:
-            raise TextFileRefused(RULE_UNREADABLE, f"larger than {limit:,} bytes, the limit for an SOP text")
+    try:
+        raw = read_at_most(functools.partial(os.read, descriptor), limit)
+    except OSError as error:
+        raise TextFileRefused(RULE_UNREADABLE, f"cannot read: {error.strerror}") from None
+    if len(raw) > limit:
+        raise TextFileRefused(RULE_UNREADABLE, f"larger than {limit:,} bytes, the limit for an SOP text")
+    return raw
 
 
 def decode_text(raw: bytes) -> str:

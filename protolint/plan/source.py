@@ -29,6 +29,7 @@ from typing import Any
 
 import yaml
 
+from protolint.bounded import read_at_most
 from protolint.errors import LocatedError
 from protolint.findings import Location
 
@@ -150,10 +151,10 @@ def read_limited(file: str, what: str = "plan", limit: int = MAX_BYTES) -> bytes
 
     try:
         if file == "-":
-            raw = sys.stdin.buffer.read(limit + 1)
+            raw = read_at_most(sys.stdin.buffer.read, limit)
         else:
             with open(file, "rb") as stream:
-                raw = stream.read(limit + 1)
+                raw = read_at_most(stream.read, limit)
     except FileNotFoundError:
         # A plan is the obvious input; another kind of file is named, so the reader knows which.
         raise LocatedError(file, 0, 0, "no such file" if what == "plan" else f"cannot read the {what} file: no such file") from None
