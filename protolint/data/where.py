@@ -5,7 +5,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
-from protolint.errors import LocatedError, ProtolintError
+from protolint.errors import LocatedError, ProtolintError, one_line
 
 
 @dataclass(frozen=True)
@@ -41,7 +41,7 @@ class DataError(LocatedError):
         self.line = where.line
         found = _LINE_COLUMN.fullmatch(where.place)
         self.column = int(found.group(2)) if found and found.group(2) else 0
-        self.reason = message
+        self.reason = one_line(message)
         self.where = where
         ProtolintError.__init__(self, f"{where}: {message}")
 
