@@ -163,7 +163,7 @@ def parse_ratings(table: RawTable) -> RatingData:
     at = {name: table.header.index(name) for name in REQUIRED_COLUMNS + OPTIONAL_COLUMNS if name in table.header}
     i_date, i_site, i_rater, i_case, i_score, i_ref = (at[name] for name in REQUIRED_COLUMNS)
     i_kind, i_instrument = at.get("kind"), at.get("instrument")
-    from protolint.data.source import parse_date
+    from protolint.dates import parse_date
 
     parsed_days: dict[str, date] = {}
     for line, cells in table.rows:

@@ -31,7 +31,7 @@ EXIT_TERMINATED = 128 + signal.SIGTERM
 def parse_date_option(ctx: click.Context | None, param: click.Parameter | None, value: str | None) -> date | None:
     """A click callback for date options: exactly ``YYYY-MM-DD`` (not ``20260715``, not
     ``2026-W01-1``, which Python's ``date.fromisoformat`` also accepts), a real date."""
-    from protolint.data.source import parse_date
+    from protolint.dates import parse_date
 
     if value is None:
         return None

@@ -10,7 +10,6 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
-from datetime import date
 from typing import Union
 
 from protolint.data.where import Where
@@ -133,23 +132,3 @@ def parse_number(cell: Cell) -> float:
         shown = f"{value:g}" if isinstance(cell, float) else shown_text(cell)
         raise ValueError(f"{shown} is beyond ±1e15, outside any rating scale")
     return value
-
-
-_ISO_DATE = re.compile(r"[0-9]{4}-[0-9]{2}-[0-9]{2}")
-
-
-def parse_date(text: str) -> date:
-    """A calendar date written exactly YYYY-MM-DD (Python's ``date.fromisoformat`` would also
-    take ``20260715`` and week dates such as ``2026-W01-1``).
-
-    Raises
-    ------
-    ValueError
-        When the text has another form or names no real date.
-    """
-    if not _ISO_DATE.fullmatch(text):
-        raise ValueError(f"{text!r} is not a date written YYYY-MM-DD")
-    try:
-        return date.fromisoformat(text)
-    except ValueError as error:
-        raise ValueError(f"{text!r} is not a date ({error})") from None

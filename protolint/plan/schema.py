@@ -18,10 +18,10 @@ both validators to the same verdict.
 from __future__ import annotations
 
 import re
-from datetime import date
 from functools import lru_cache
 from typing import Any, Callable
 
+from protolint.dates import parse_date
 from protolint.findings import Finding, Severity, finding_at
 from protolint.plan.source import LoadedSource, Path
 from protolint.resources import load_schema
@@ -127,11 +127,7 @@ def _date_reported_twice(error: Any) -> bool:
     # `pattern`; the format finding says what is wrong, the range one would repeat it.
     if error.validator != "pattern" or error.schema.get("format") != "date":
         return False
-    try:
-        date.fromisoformat(error.instance)
-    except (TypeError, ValueError):
-        return True
-    return False
+    return not (isinstance(error.instance, str) and is_calendar_date(error.instance))
 
 
 def passes_screen(data: Any, schema_name: str = PLAN_SCHEMA) -> bool:
@@ -171,17 +167,13 @@ class _ScreenPattern:
 
 
 # jsonschema's "date" check (jsonschema/_format.py, is_date): four, two and two ASCII digits
-# that make a real date for Python's date.fromisoformat. Written out so that a valid plan is
-# screened without importing jsonschema; the screen's test compares it with jsonschema's own.
-_ISO_DATE = re.compile(r"^\d{4}-\d{2}-\d{2}$", re.ASCII)
-
-
+# that make a real date, which is protolint.dates.parse_date's reading. Written without
+# jsonschema so that a valid plan is screened without importing it; the screen's test compares
+# it with jsonschema's own.
 def is_calendar_date(text: str) -> bool:
     """A date written YYYY-MM-DD that exists in the calendar (``format: date`` of the schemas)."""
-    if not _ISO_DATE.fullmatch(text):
-        return False
     try:
-        date.fromisoformat(text)
+        parse_date(text)
     except ValueError:
         return False
     return True
