@@ -34,7 +34,7 @@ from pathlib import PurePosixPath
 
 from protolint.bounded import read_at_most
 from protolint.findings import Finding, Severity, finding_at
-from protolint.plan.source import LoadedSource, Path
+from protolint.plan.source import CONTROL_CHARACTERS, LoadedSource, Path
 
 MAX_TEXT_BYTES = 256 * 1024
 """Largest SOP text read (bytes). A long SOP is some tens of kilobytes of Markdown; at the limit,
@@ -43,9 +43,6 @@ hostile Markdown (a quarter of a million brackets) still renders within seconds.
 RULE_OUTSIDE = "schema/text-file-outside-folder"
 RULE_UNREADABLE = "schema/text-file-unreadable"
 
-# Control characters other than tab, line feed and carriage return; Markdown has no use for
-# them and a terminal or a PDF viewer might.
-_CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]")
 
 
 @dataclass(frozen=True)
@@ -160,7 +157,7 @@ def decode_text(raw: bytes) -> str:
         line = raw[:error.start].count(b"\n") + 1
         raise TextFileRefused(RULE_UNREADABLE, f"line {line}: not UTF-8 text (byte 0x{raw[error.start]:02x}); "
                                                "save the file as UTF-8") from None
-    bad = _CONTROL.search(text)
+    bad = CONTROL_CHARACTERS.search(text)
     if bad:
         line = text.count("\n", 0, bad.start()) + 1
         raise TextFileRefused(RULE_UNREADABLE, f"line {line}: control character U+{ord(bad.group()):04X} "

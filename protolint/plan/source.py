@@ -72,8 +72,9 @@ _BOMS = {
     b"\xff\xfe": "UTF-16",
     b"\xfe\xff": "UTF-16",
 }
-# Control characters other than tab and line breaks, once escapes in quoted values are decoded.
-_VALUE_CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
+# Control characters other than tab and line breaks (C0, DEL, C1): refused in a quoted plan
+# value once its escapes are decoded, and in an SOP text the plan names.
+CONTROL_CHARACTERS = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
 _LONE_CR = re.compile(r"\r(?!\n)")
 _ODD_LINE_BREAKS = {"\u2028": "LINE SEPARATOR", "\u2029": "PARAGRAPH SEPARATOR", "\u0085": "NEXT LINE"}
 
@@ -359,7 +360,7 @@ class _Converter:
             if not isinstance(key_node, yaml.ScalarNode):
                 raise self.fail(key_node, "a key must be a plain word, not a list or mapping")
             key = key_node.value
-            control = _VALUE_CONTROL.search(key) if key_node.style == '"' else None
+            control = CONTROL_CHARACTERS.search(key) if key_node.style == '"' else None
             if control:
                 raise self.fail(key_node, f"the key contains the control character U+{ord(control.group(0)):04X} "
                                           "(written as an escape); remove it")
@@ -377,7 +378,7 @@ class _Converter:
         value = node.value
         tag = node.tag
         # Only a double-quoted scalar can hold an escape; the reader refuses raw control characters.
-        control = _VALUE_CONTROL.search(value) if node.style == '"' else None
+        control = CONTROL_CHARACTERS.search(value) if node.style == '"' else None
         if control:
             # Written as an escape in a quoted value ("\e[31m", "\x07"): the raw character is
             # refused by the reader, and the escaped one would reach documents and terminals.

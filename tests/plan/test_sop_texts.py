@@ -133,6 +133,8 @@ def test_a_huge_file_is_refused_after_reading_no_more_than_the_limit(tmp_path: P
     (b"# Text\n\xff\xfe\n", "line 2: not UTF-8 text"),
     (b"# Text\n\nA NUL \x00 here\n", "line 3: control character U+0000"),
     (b"\x1b[31mred\x1b[0m\n", "control character U+001B"),
+    # A C1 control (here CSI, U+009B) is refused as in a plan's own values.
+    ("# Text\n\u009b31mred\n".encode("utf-8"), "line 2: control character U+009B"),
 ])
 def test_text_that_is_not_plain_utf8_is_refused(tmp_path: Path, body: bytes, words: str) -> None:
     plan = plan_folder(tmp_path, body=body)
