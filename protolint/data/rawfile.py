@@ -14,7 +14,9 @@ from __future__ import annotations
 
 import codecs
 import hashlib
+import os
 import re
+import stat
 from dataclasses import dataclass
 
 from protolint.bounded import read_at_most
@@ -68,9 +70,30 @@ def read_limited(path: str, limit: int = MAX_DATA_BYTES) -> RawFile:
     except OSError as error:
         raise file_error(path, error) from None
     if len(data) > limit:
-        raise DataError(Where(path), f"the file is larger than {mib(limit)}, the most a data file may hold; "
-                                     "split it or select the rows to analyse before exporting")
+        raise too_large(path, limit)
     return RawFile(path, data)
+
+
+def too_large(path: str, limit: int = MAX_DATA_BYTES) -> DataError:
+    return DataError(Where(path), f"the file is larger than {mib(limit)}, the most a data file may hold; "
+                                  "split it or select the rows to analyse before exporting")
+
+
+def file_on_disk(path: str, kind: str) -> int:
+    """The size of a data file that a library opens itself (a workbook, a SAS transport file),
+    refused unless it is a regular file within the limit: a regular file's size is honest, so
+    the limit is judged from it before the library reads anything. ``kind`` names the format."""
+    try:
+        info = os.stat(path)
+    except OSError as error:
+        raise file_error(path, error) from None
+    if stat.S_ISDIR(info.st_mode):
+        raise file_error(path, IsADirectoryError())
+    if not stat.S_ISREG(info.st_mode):
+        raise DataError(Where(path), f"not a regular file; {kind} must be a file on disk")
+    if info.st_size > MAX_DATA_BYTES:
+        raise too_large(path)
+    return info.st_size
 
 
 def _line_column(text_before: str) -> tuple[int, int]:

@@ -9,12 +9,10 @@ from __future__ import annotations
 
 import datetime as dt
 import math
-import os
-import stat
 from typing import Any
 
 from protolint.data.source import RECORD, Cell, SourceTable
-from protolint.data.rawfile import MAX_CELLS, MAX_DATA_BYTES, mib, too_many_cells
+from protolint.data.rawfile import MAX_CELLS, file_on_disk, too_many_cells
 from protolint.data.where import DataError, Where, file_error
 
 _V5_HEADER = b"HEADER RECORD*******LIBRARY HEADER RECORD!!!!!!!"
@@ -39,19 +37,12 @@ def _cell(value: Any) -> Cell:
 
 def read_transport(path: str) -> SourceTable:
     """The first (normally the only) dataset of a SAS transport file."""
+    size = file_on_disk(path, "a SAS transport file")
     try:
-        info = os.stat(path)
-        if stat.S_ISDIR(info.st_mode):
-            raise DataError(Where(path), "is a directory, expected a data file")
-        if not stat.S_ISREG(info.st_mode):
-            raise DataError(Where(path), "not a regular file; a SAS transport file must be a file on disk")
-        size = info.st_size
         with open(path, "rb") as stream:
             head = stream.read(80)
     except OSError as error:
         raise file_error(path, error) from None
-    if size > MAX_DATA_BYTES:
-        raise DataError(Where(path), f"the file is larger than {mib(MAX_DATA_BYTES)}, the most a data file may hold")
     if head.startswith(_V8_HEADER):
         version = "8"
     elif head.startswith(_V5_HEADER):

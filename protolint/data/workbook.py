@@ -9,15 +9,13 @@ value, so reading them would silently empty the others.
 from __future__ import annotations
 
 import datetime as dt
-import os
 import re
-import stat
 import zipfile
 from typing import Any
 
 from protolint.data.source import SHEET, Cell, SourceTable, column_letter
-from protolint.data.rawfile import MAX_CELLS, MAX_DATA_BYTES, mib, too_many_cells
-from protolint.data.where import DataError, Where, file_error
+from protolint.data.rawfile import MAX_CELLS, MAX_DATA_BYTES, file_on_disk, mib, too_many_cells
+from protolint.data.where import DataError, Where
 
 
 def _cell(value: Any) -> Cell:
@@ -64,16 +62,7 @@ MAX_UNPACKED_BYTES = 8 * MAX_DATA_BYTES
 
 
 def _check_archive(path: str) -> None:
-    try:
-        info = os.stat(path)
-    except OSError as error:
-        raise file_error(path, error) from None
-    if stat.S_ISDIR(info.st_mode):
-        raise DataError(Where(path), "is a directory, expected a data file")
-    if not stat.S_ISREG(info.st_mode):
-        raise DataError(Where(path), "not a regular file; an .xlsx workbook must be a file on disk")
-    if info.st_size > MAX_DATA_BYTES:
-        raise DataError(Where(path), f"the file is larger than {mib(MAX_DATA_BYTES)}, the most a data file may hold")
+    file_on_disk(path, "an .xlsx workbook")
     try:
         with zipfile.ZipFile(path) as archive:
             unpacked = sum(member.file_size for member in archive.infolist())
