@@ -132,6 +132,11 @@ def _write_all(fd: int, data: bytes) -> None:
     os.fsync(fd)
 
 
+def _part_name(folder: Path, real: Path) -> Path:
+    # Beside the target (a rename stays on one file system), and named so it is clearly ours.
+    return folder / f"{real.name}.protolint-{secrets.token_hex(6)}.part"
+
+
 def _link_anonymous(folder: Path, real: Path, data: bytes, mode: int) -> bool:
     """Write ``data`` to an unnamed file in ``folder`` and rename it onto ``real``.
 
@@ -146,7 +151,7 @@ def _link_anonymous(folder: Path, real: Path, data: bytes, mode: int) -> bool:
         if error.errno in (errno.EOPNOTSUPP, errno.EISDIR, errno.EINVAL, errno.ENOENT):
             return False
         raise
-    temporary = folder / f"{real.name}.protolint-{secrets.token_hex(6)}.part"
+    temporary = _part_name(folder, real)
     try:
         _write_all(fd, data)
         os.fchmod(fd, mode)
@@ -188,7 +193,7 @@ def write_atomic(target: str | os.PathLike[str], content: str | bytes,
         mode = _new_mode(real)
         if _link_anonymous(folder, real, data, mode):
             return
-        temporary = folder / f"{real.name}.protolint-{secrets.token_hex(6)}.part"
+        temporary = _part_name(folder, real)
         fd = os.open(temporary, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
     except OSError as error:
         raise ProtolintError(f"{path}: cannot write: {error.strerror}") from None
