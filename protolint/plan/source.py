@@ -164,8 +164,12 @@ def read_limited(file: str, what: str = "plan", limit: int = MAX_BYTES) -> bytes
     except OSError as error:
         raise LocatedError(file, 0, 0, f"cannot read the {what} file: {error.strerror or error}") from None
     if len(raw) > limit:
-        raise LocatedError(file, 0, 0, f"the file is larger than {_size_words(limit)}, the limit for a {what} file")
+        raise _too_large(file, what, limit)
     return raw
+
+
+def _too_large(file: str, what: str, limit: int) -> LocatedError:
+    return LocatedError(file, 0, 0, f"the file is larger than {_size_words(limit)}, the limit for a {what} file")
 
 
 def _size_words(size: int) -> str:
@@ -174,8 +178,8 @@ def _size_words(size: int) -> str:
 
 def load_source(raw: bytes, file: str) -> LoadedSource:
     """Parse plan bytes. Raises :class:`LocatedError` for anything that is not a safe YAML mapping."""
-    if len(raw) > MAX_BYTES:
-        raise LocatedError(file, 0, 0, f"the file is larger than {_size_words(MAX_BYTES)}, the limit for a plan file")
+    if len(raw) > MAX_BYTES:  # bytes given directly (check_text), not read by read_limited
+        raise _too_large(file, "plan", MAX_BYTES)
     text = _decode(raw, file)
     try:
         root = yaml.compose(text, Loader=_LOADER)
