@@ -79,9 +79,9 @@ def size_problems(plan: Plan) -> tuple[SizeProblem, ...]:
                                     f"{total_rows:,} sign-off rows; the binder prints at most {MAX_SIGNOFF_ROWS:,}"))
     duties = total_rounds + len(plan.sops) + 2 * sum(len(spans[pool.id]) for pool in plan.rater_pools)
     window = study_window(plan)
+    months = months_between(window.first.toordinal(), window.last.toordinal())
     for pool in plan.rater_pools:
         interval = pool.recertification.interval_months if pool.recertification else None
-        months = months_between(window.first.toordinal(), window.last.toordinal())
         if interval:
             duties += len(spans[pool.id]) * (months // interval + 1)
         for rater in plan.roster:
