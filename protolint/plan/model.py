@@ -14,6 +14,7 @@ import dataclasses
 import functools
 import types
 import typing
+from collections.abc import Iterable
 from dataclasses import dataclass
 from datetime import date as Date
 from functools import cached_property, lru_cache
@@ -101,10 +102,7 @@ class Study:
 
     @cached_property
     def _sites_by_id(self) -> dict[str, Site]:
-        index: dict[str, Site] = {}
-        for site in self.sites:
-            index.setdefault(site.id, site)
-        return index
+        return _first_by_id(self.sites)
 
 
 @dataclass(frozen=True)
@@ -488,13 +486,7 @@ class Plan:
         sections: dict[str, tuple[Any, ...]] = {
             "instruments": self.instruments, "endpoints": self.endpoints,
             "rater_pools": self.rater_pools, "visits": self.schedule.visits}
-        indexes: dict[str, dict[str, Any]] = {}
-        for name, items in sections.items():
-            index: dict[str, Any] = {}
-            for item in items:
-                index.setdefault(item.id, item)  # the first of a repeated id, as a search would find
-            indexes[name] = index
-        return indexes
+        return {name: _first_by_id(items) for name, items in sections.items()}
 
     @cached_property
     def _endpoints_by_instrument(self) -> dict[str, tuple[Endpoint, ...]]:
@@ -505,6 +497,14 @@ class Plan:
 
 
 T = TypeVar("T")
+def _first_by_id(items: Iterable[Any]) -> dict[str, Any]:
+    """Items by their ``id``; of a repeated id, the first (as a search through the list finds it)."""
+    index: dict[str, Any] = {}
+    for item in items:
+        index.setdefault(item.id, item)
+    return index
+
+
 F = TypeVar("F", bound=Callable[..., Any])
 
 
