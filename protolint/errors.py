@@ -34,6 +34,12 @@ def escape_control(match: re.Match[str]) -> str:
     return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
 
 
+def line_column(text_before: str) -> tuple[int, int]:
+    """The 1-based line and column just after ``text_before``, the text up to a problem."""
+    line = text_before.count("\n") + 1
+    return line, len(text_before) - (text_before.rfind("\n") + 1) + 1
+
+
 class ProtolintError(click.ClickException):
     """Input that could not be checked: exit code 2 with a one-line message on stderr."""
 

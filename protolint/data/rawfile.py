@@ -21,6 +21,7 @@ from dataclasses import dataclass
 
 from protolint.bounded import read_at_most
 from protolint.data.where import DataError, Where, file_error
+from protolint.errors import line_column
 
 # The largest data file read, and the most cells (values) taken from it. A trial's full export
 # of one instrument is ~10^6 ratings (tens of MB; a few million cells in the long layout);
@@ -96,11 +97,6 @@ def file_on_disk(path: str, kind: str) -> int:
     return info.st_size
 
 
-def _line_column(text_before: str) -> tuple[int, int]:
-    line = text_before.count("\n") + 1
-    return line, len(text_before) - (text_before.rfind("\n") + 1) + 1
-
-
 def decode_text(raw: RawFile) -> str:
     """UTF-8 text of ``raw`` (BOM removed), or a located one-line error."""
     data = raw.data
@@ -111,7 +107,7 @@ def decode_text(raw: RawFile) -> str:
         data = data[len(codecs.BOM_UTF8):]
     nul = data.find(b"\x00")
     if nul >= 0:
-        line, column = _line_column(data[:nul].decode("utf-8", "replace"))
+        line, column = line_column(data[:nul].decode("utf-8", "replace"))
         looks = data.count(b"\x00") * 3 >= len(data)
         hint = ("; the file looks like UTF-16 text without a byte-order mark: save it as UTF-8" if looks
                 else "; a text data file has no NUL bytes (is it a binary file?)")
@@ -120,7 +116,7 @@ def decode_text(raw: RawFile) -> str:
         text = data.decode("utf-8")
     except UnicodeDecodeError as error:
         good = data[:error.start].decode("utf-8", "replace")
-        line, column = _line_column(good)
+        line, column = line_column(good)
         byte = data[error.start]
         if error.reason == "unexpected end of data":
             hint = " (the file ends inside a character: is it truncated?)"
@@ -130,7 +126,7 @@ def decode_text(raw: RawFile) -> str:
                         f"not UTF-8 text: byte 0x{byte:02x} at byte offset {error.start}{hint}") from None
     found = _CONTROL.search(text)
     if found:
-        line, column = _line_column(text[:found.start()])
+        line, column = line_column(text[:found.start()])
         char = found.group(0)
         raise DataError(Where(raw.path, f"{line}:{column}"),
                         f"control character U+{ord(char):04X} in the text; remove it (only tab and line breaks are allowed)")

@@ -30,7 +30,7 @@ from typing import Any
 import yaml
 
 from protolint.bounded import read_at_most
-from protolint.errors import LocatedError
+from protolint.errors import LocatedError, line_column
 from protolint.findings import Location
 
 MAX_BYTES = 2 * 1024 * 1024
@@ -186,7 +186,7 @@ def load_source(raw: bytes, file: str) -> LoadedSource:
     except yaml.MarkedYAMLError as error:
         raise _yaml_error(error, text, file) from None
     except yaml.reader.ReaderError as error:  # a character YAML does not allow; carries its position
-        line, column = _line_column(text[: error.position])
+        line, column = line_column(text[: error.position])
         char = error.character if isinstance(error.character, str) else chr(error.character)
         raise LocatedError(file, line, column, f"the control character U+{ord(char):04X} is not allowed in a plan; "
                                                "remove it (YAML allows tabs and line breaks only)") from None
@@ -220,16 +220,16 @@ def _decode(raw: bytes, file: str) -> str:
         raw = raw[3:]
     nul = raw.find(b"\x00")
     if nul >= 0:
-        line, column = _line_column(raw[:nul].decode("utf-8", errors="replace"))
+        line, column = line_column(raw[:nul].decode("utf-8", errors="replace"))
         raise LocatedError(file, line, column, "file contains NUL bytes (UTF-16 or binary?); save it as UTF-8 text")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as error:
-        line, column = _line_column(raw[: error.start].decode("utf-8", errors="replace"))
+        line, column = line_column(raw[: error.start].decode("utf-8", errors="replace"))
         raise LocatedError(file, line, column, f"byte 0x{raw[error.start]:02x} is not valid UTF-8; save the file as UTF-8") from None
     lone_cr = _LONE_CR.search(text)
     if lone_cr:
-        line, column = _line_column(text[: lone_cr.start()])
+        line, column = line_column(text[: lone_cr.start()])
         # PyYAML ends a line at a carriage return that is not followed by a line feed; editors
         # and GitHub do not, so every line number after it would be wrong.
         raise LocatedError(file, line, column, "a carriage return without a line feed (old Mac line ending); "
@@ -237,17 +237,11 @@ def _decode(raw: bytes, file: str) -> str:
     for char, name in _ODD_LINE_BREAKS.items():
         index = text.find(char)
         if index >= 0:
-            line, column = _line_column(text[:index])
+            line, column = line_column(text[:index])
             # PyYAML counts these as line breaks while editors do not, which would shift every
             # reported line after them.
             raise LocatedError(file, line, column, f"the character U+{ord(char):04X} {name} is not allowed; use a plain line break")
     return text
-
-
-def _line_column(prefix: str) -> tuple[int, int]:
-    line = prefix.count("\n") + 1
-    column = len(prefix) - (prefix.rfind("\n") + 1) + 1
-    return line, column
 
 
 def _yaml_error(error: yaml.MarkedYAMLError, text: str, file: str) -> LocatedError:
