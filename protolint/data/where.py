@@ -28,6 +28,12 @@ class Where:
         found = _LINE_COLUMN.fullmatch(self.place)
         return int(found.group(1)) if found else 0
 
+    @property
+    def column(self) -> int:
+        """The column of a text place written ``12:5``, else 0 (the whole line, or not text)."""
+        found = _LINE_COLUMN.fullmatch(self.place)
+        return int(found.group(2)) if found and found.group(2) else 0
+
 
 # A text place: a line, or a line and a 1-based column.
 _LINE_COLUMN = re.compile(r"([0-9]+)(?::([0-9]+))?")
@@ -39,8 +45,7 @@ class DataError(LocatedError):
     def __init__(self, where: Where, message: str) -> None:
         self.file = where.file
         self.line = where.line
-        found = _LINE_COLUMN.fullmatch(where.place)
-        self.column = int(found.group(2)) if found and found.group(2) else 0
+        self.column = where.column
         self.reason = one_line(message)
         self.where = where
         ProtolintError.__init__(self, f"{where}: {message}")
