@@ -1,5 +1,4 @@
-"""Helpers shared by the commands: the check options, JSON without NaN, atomic output (and the
-old name of the command class)."""
+"""Helpers shared by the commands: the check options, JSON without NaN, atomic output."""
 
 from __future__ import annotations
 
@@ -10,7 +9,7 @@ from typing import Any, Callable, TypeVar
 
 import click
 
-from protolint.commands.base import ProtolintCommand, parse_date_option
+from protolint.commands.base import parse_date_option
 from protolint.errors import ProtolintError
 
 
@@ -42,11 +41,6 @@ def _finite(value: Any) -> Any:
 def to_json(report: dict[str, Any]) -> str:
     """The report as indented JSON; non-finite numbers are written as null."""
     return json.dumps(_finite(report), indent=2, allow_nan=False) + "\n"
-
-
-# The one command class lives in ``protolint.commands.base``; this name is kept for commands
-# written before it existed.
-OneLineCommand = ProtolintCommand
 
 
 def emit(content: str | bytes, output: str | None, what: str, *, binary: bool = False) -> None:

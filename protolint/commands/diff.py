@@ -6,12 +6,13 @@ import sys
 from datetime import date
 import click
 
-from protolint.commands._shared import OneLineCommand, check_options
+from protolint.commands._shared import check_options
+from protolint.commands.base import ProtolintCommand
 
 FORMATS = ("text", "json", "markdown", "html")
 
 
-@click.command("diff", cls=OneLineCommand)
+@click.command("diff", cls=ProtolintCommand)
 @click.argument("old", metavar="OLD")
 @click.argument("new", metavar="NEW")
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True, help="Report format.")

@@ -12,8 +12,8 @@ import click
 from protolint.data.rawfile import LIMITS_HELP as DATA_LIMITS
 
 from protolint import CAUTION
-from protolint.commands._shared import OneLineCommand, emit, to_json
-from protolint.commands.base import parse_date_option
+from protolint.commands._shared import emit, to_json
+from protolint.commands.base import ProtolintCommand, parse_date_option
 from protolint.data.options import reader_options
 from protolint.errors import ProtolintError
 from protolint.wording import plural
@@ -130,7 +130,7 @@ def default_output(data: str, fmt: str) -> str | None:
     return f"{PurePath(data).stem}-drift.pdf" if fmt == "pdf" else None
 
 
-@click.command("drift", cls=OneLineCommand, epilog=DATA_LIMITS)
+@click.command("drift", cls=ProtolintCommand, epilog=DATA_LIMITS)
 @click.argument("data", metavar="DATA")
 @click.option("--plan", type=click.Path(dir_okay=False), help="Measurement plan: criteria, intervals, roster and schedule.")
 @click.option("--pool", metavar="ID", help="Only this rater pool.")
