@@ -58,6 +58,12 @@ def check_basis(result: CheckResult) -> str:
     return f"Checked {'as of ' + when if when else 'as of each plan' + chr(39) + 's own date'} under {result.policy.describe()}."
 
 
+def as_of_basis(result: CheckResult) -> str:
+    """Where the as-of date came from, for the machine-read reports: "given" (``--as-of``) or
+    "plan_date" (each plan checked as of its own ``plan_date``)."""
+    return "given" if result.as_of is not None else "plan_date"
+
+
 def plan_counts(plan: PlanResult) -> dict[str, int]:
     """Counts of one plan in the shape of :meth:`CheckResult.counts`."""
     counts = {"error": 0, "warning": 0, "note": 0, "waived": 0}

@@ -25,6 +25,7 @@ from urllib.parse import quote
 from protolint import CAUTION
 from protolint.report._common import (
     FINGERPRINT_KEY,
+    as_of_basis,
     fingerprints,
     forward_slashes,
     json_safe,
@@ -153,7 +154,7 @@ def _invocation(notifications: list[dict[str, Any]], result: CheckResult) -> dic
     succeeded (it reported what it could check), but its results are incomplete. The
     invocation's properties record the policy and the as-of date the run was made with."""
     properties: dict[str, Any] = {"policy": result.policy.to_json(), "asOf": result.as_of_in_force,
-                                  "asOfBasis": "given" if result.as_of else "plan_date"}
+                                  "asOfBasis": as_of_basis(result)}
     invocation: dict[str, Any] = {"executionSuccessful": True, "properties": properties}
     if notifications:
         invocation["toolExecutionNotifications"] = notifications
