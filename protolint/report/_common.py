@@ -51,6 +51,10 @@ def not_run_note(plan: PlanResult, *, with_ids: bool = False) -> str | None:
     return note
 
 
+RUN_NOT_CHECKED = "No plan was checked: an input (a plan or the policy) could not be read."
+"""What the machine-read reports of a failed run (exit 2) say about the run as a whole."""
+
+
 def check_basis(result: CheckResult) -> str:
     """"Checked as of 2026-07-15 under the default policy (no policy file)." for every
     human-readable report: the date and the policy that decided which findings exist."""

@@ -25,6 +25,7 @@ from urllib.parse import quote
 from protolint import CAUTION
 from protolint.report._common import (
     FINGERPRINT_KEY,
+    RUN_NOT_CHECKED,
     as_of_basis,
     fingerprints,
     forward_slashes,
@@ -228,7 +229,6 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
 
 
 INPUT_ERROR = "protolint/input-error"
-INPUT_ERROR_TEXT = "An input (a plan or the policy) could not be read, so no plan was checked."
 
 
 def _failure_notification(problem: InputProblem, artifact_index: dict[str, int]) -> dict[str, Any]:
@@ -263,12 +263,12 @@ def failure_document(failure: CheckFailure) -> dict[str, Any]:
     run: dict[str, Any] = {
         "tool": {"driver": {"name": "protolint", "version": failure.tool_version,
                             "semanticVersion": failure.tool_version, "rules": [],
-                            "notifications": [{"id": INPUT_ERROR, "shortDescription": {"text": INPUT_ERROR_TEXT}}]}},
+                            "notifications": [{"id": INPUT_ERROR, "shortDescription": {"text": RUN_NOT_CHECKED}}]}},
         "automationDetails": {"id": AUTOMATION_ID},
         "invocations": [{
             "executionSuccessful": False,
             "exitCode": 2,
-            "exitCodeDescription": "the input could not be checked",
+            "exitCodeDescription": RUN_NOT_CHECKED,
             "toolExecutionNotifications": notifications,
         }],
         "artifacts": artifacts,
