@@ -6,7 +6,6 @@ findings, from the one check pipeline)."""
 from __future__ import annotations
 
 import dataclasses
-import math
 from dataclasses import dataclass
 from datetime import date
 from typing import Any, Callable
@@ -162,6 +161,8 @@ class EvidencePoint:
     n_total: int
     power: float
     description: str
+    effect_size_observed: float
+    """The observed effect at this reliability, from the same sample-size calculation."""
 
 
 def _evidence_point(plan: Plan, endpoint: Endpoint, effect: float, common: dict[str, Any]) -> EvidencePoint | None:
@@ -180,7 +181,8 @@ def _evidence_point(plan: Plan, endpoint: Endpoint, effect: float, common: dict[
     ratings = "one rating" if expected.ratings == 1 else f"the mean of {expected.ratings} ratings"
     description = (f"{number(expected.reliability, 3)} ({ratings}; single-rating value "
                    f"{number(expected.single, 3)} from evidence {expected.evidence.id})")
-    return EvidencePoint(expected.reliability, result.n_total_enrolled, result.achieved_power, description)
+    return EvidencePoint(expected.reliability, result.n_total_enrolled, result.achieved_power, description,
+                         result.effect_size_observed)
 
 
 def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
@@ -240,10 +242,10 @@ def sample_size_appendix(plan: Plan) -> SampleSizeAppendix | None:
     if supported is not None:
         results += (
             Fact("Reliability the evidence supports", supported.description),
-            # The same attenuation as above (d·√ρ), at the evidence's reliability: the figure a
-            # reader compares with the plan's assumption.
+            # The same attenuation as above (d·√ρ, computed by the sample-size solver), at the
+            # evidence's reliability: the figure a reader compares with the plan's assumption.
             Fact(f"Observed effect at the supported reliability {number(supported.reliability, 3)}",
-                 number(d * math.sqrt(supported.reliability), 3)),
+                 number(supported.effect_size_observed, 3)),
             Fact("To enrol at that reliability", f"{supported.n_total} (power {number(supported.power, 3)})"),
         )
     note = None

@@ -21,7 +21,7 @@ from protolint.plan import LoadedPlan
 from protolint.plan.model import Plan, Rater
 from protolint.plan.timeline import certification_expiry, study_window
 from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, recertification_dates, training_deadline
-from protolint.render.document import DocumentCheck, document_check, document_date, library_versions
+from protolint.render.document import DocumentCheck, document_check, document_date, document_status, library_versions
 
 UID_DOMAIN = "protolint.invalid"
 
@@ -128,14 +128,14 @@ def render_calendar(loaded: LoadedPlan, check: DocumentCheck | None = None) -> b
     calendar.add("version", "2.0")
     calendar.add("calscale", "GREGORIAN")
     calendar.add("x-wr-calname", f"{plan.study.id} rater duties")
-    errors = len(check.open_errors)
-    status = (f"Draft plan: {errors} open error{'s' if errors != 1 else ''} in the plan check; not for use."
-              if errors else "No open errors in the plan check.")
+    # The documents' own draft words ("Draft — 2 open errors in the plan check — not for use").
+    draft = document_status(plan, "calendar", check).mark
+    status = f"{draft}." if draft else "No open errors in the plan check."
     versions = ", ".join(f"{lib.label} {lib.value}" for lib in library_versions(("icalendar",)))
     calendar.add("x-wr-caldesc", f"From plan {PurePath(loaded.source.file).name} (SHA-256 {loaded.source.sha256}), "
                                  f"checked as of {check.as_of.isoformat()} under {check.policy.describe()}. {status} "
                                  f"protolint {__version__}, {versions}. {CAUTION}")
-    footer = f"\n\nFrom plan SHA-256 {loaded.source.sha256}.{' ' + status if errors else ''}\n{CAUTION}"
+    footer = f"\n\nFrom plan SHA-256 {loaded.source.sha256}.{' ' + status if draft else ''}\n{CAUTION}"
     for duty in dated_duties(plan):
         event = Event()
         event.add("uid", stable_uid(plan.study.id, duty.kind, duty.ids, duty.day))

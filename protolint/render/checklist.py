@@ -70,6 +70,11 @@ class FormGrid:
         """Where the column rules fall, in CSS pixels from the left edge."""
         return tuple(k * self.column_px for k in range(1, self.columns))
 
+    @property
+    def heading_lines(self) -> tuple[str, ...]:
+        """The column headings of every round's form, as form lines."""
+        return tuple(self.line(*row) for row in HEADINGS)
+
     def line(self, *cells: str) -> str:
         """One form line: each cell after a space, cut to its column, then a tab to the next."""
         padded = cells + ("",) * (self.columns - len(cells))
@@ -158,8 +163,6 @@ class ChecklistContext:
     only_site: SiteChecklist | None = None
     """The site this copy is for (``render checklist --site``), None for the whole study."""
     grid: FormGrid = GRID
-    heading_lines: tuple[str, ...] = tuple(GRID.line(*row) for row in HEADINGS)
-    """The column headings of every round's form, as form lines."""
 
 
 def interval_words(weeks: int) -> str:

@@ -51,11 +51,21 @@ def not_run_note(plan: PlanResult, *, with_ids: bool = False) -> str | None:
     return note
 
 
+RUN_NOT_CHECKED = "No plan was checked: an input (a plan or the policy) could not be read."
+"""What the machine-read reports of a failed run (exit 2) say about the run as a whole."""
+
+
 def check_basis(result: CheckResult) -> str:
     """"Checked as of 2026-07-15 under the default policy (no policy file)." for every
     human-readable report: the date and the policy that decided which findings exist."""
     when = result.as_of_in_force
     return f"Checked {'as of ' + when if when else 'as of each plan' + chr(39) + 's own date'} under {result.policy.describe()}."
+
+
+def as_of_basis(result: CheckResult) -> str:
+    """Where the as-of date came from, for the machine-read reports: "given" (``--as-of``) or
+    "plan_date" (each plan checked as of its own ``plan_date``)."""
+    return "given" if result.as_of is not None else "plan_date"
 
 
 def plan_counts(plan: PlanResult) -> dict[str, int]:

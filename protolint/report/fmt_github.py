@@ -13,7 +13,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING, Sequence
 
 from protolint import CAUTION
-from protolint.report._common import check_basis, counts_phrase, forward_slashes, not_run_note
+from protolint.report._common import RUN_NOT_CHECKED, check_basis, counts_phrase, forward_slashes, not_run_note
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult
@@ -63,5 +63,5 @@ def render_failure(failure: CheckFailure) -> str:
                 properties.append(f"col={problem.column}")
         properties.append("title=protolint could not check this file")
         lines.append(f"::error {','.join(properties)}::{escape_data(problem.message)}")
-    lines.append("protolint: the plans could not be checked; no rule ran")
+    lines.append(f"protolint: {escape_data(RUN_NOT_CHECKED)}")
     return "\n".join(lines) + "\n"

@@ -252,7 +252,8 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
     from markupsafe import Markup
 
     metas = {meta.id: meta for meta in rules}
-    policy = _policy_text(result)
+    # The same phrase as every other report and the documents.
+    policy = result.policy.describe()
     plans = tuple(_plan_view(index, plan, metas, policy, given=result.as_of is not None)
                   for index, plan in enumerate(result.plans))
     families = sorted({finding.family for plan in plans for finding in plan.findings})
@@ -271,12 +272,6 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
         caution=CAUTION,
         svg=lambda markup: Markup(markup),
     )
-
-
-def _policy_text(result: CheckResult) -> str:
-    # The same phrase as every other report and the documents: file and SHA-256 (or the
-    # default), the rules switched off, the severities and thresholds changed.
-    return result.policy.describe()
 
 
 def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], policy: str, *, given: bool = False) -> PlanView:

@@ -17,7 +17,7 @@ import json
 from typing import TYPE_CHECKING, Any, Sequence
 
 from protolint import CAUTION
-from protolint.report._common import fingerprints, json_safe
+from protolint.report._common import as_of_basis, fingerprints, json_safe
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding, PlanResult
@@ -62,7 +62,7 @@ def as_document(result: CheckResult) -> dict[str, Any]:
         "summary": result.counts(),
         "policy": result.policy.to_json(),
         "as_of": result.as_of_in_force,
-        "as_of_basis": "given" if result.as_of else "plan_date",
+        "as_of_basis": as_of_basis(result),
         "caution": CAUTION,
         "execution_successful": True,
         "errors": [],

@@ -25,6 +25,8 @@ from urllib.parse import quote
 from protolint import CAUTION
 from protolint.report._common import (
     FINGERPRINT_KEY,
+    RUN_NOT_CHECKED,
+    as_of_basis,
     fingerprints,
     forward_slashes,
     json_safe,
@@ -153,7 +155,7 @@ def _invocation(notifications: list[dict[str, Any]], result: CheckResult) -> dic
     succeeded (it reported what it could check), but its results are incomplete. The
     invocation's properties record the policy and the as-of date the run was made with."""
     properties: dict[str, Any] = {"policy": result.policy.to_json(), "asOf": result.as_of_in_force,
-                                  "asOfBasis": "given" if result.as_of else "plan_date"}
+                                  "asOfBasis": as_of_basis(result)}
     invocation: dict[str, Any] = {"executionSuccessful": True, "properties": properties}
     if notifications:
         invocation["toolExecutionNotifications"] = notifications
@@ -227,7 +229,6 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
 
 
 INPUT_ERROR = "protolint/input-error"
-INPUT_ERROR_TEXT = "An input (a plan or the policy) could not be read, so no plan was checked."
 
 
 def _failure_notification(problem: InputProblem, artifact_index: dict[str, int]) -> dict[str, Any]:
@@ -262,12 +263,12 @@ def failure_document(failure: CheckFailure) -> dict[str, Any]:
     run: dict[str, Any] = {
         "tool": {"driver": {"name": "protolint", "version": failure.tool_version,
                             "semanticVersion": failure.tool_version, "rules": [],
-                            "notifications": [{"id": INPUT_ERROR, "shortDescription": {"text": INPUT_ERROR_TEXT}}]}},
+                            "notifications": [{"id": INPUT_ERROR, "shortDescription": {"text": RUN_NOT_CHECKED}}]}},
         "automationDetails": {"id": AUTOMATION_ID},
         "invocations": [{
             "executionSuccessful": False,
             "exitCode": 2,
-            "exitCodeDescription": "the input could not be checked",
+            "exitCodeDescription": RUN_NOT_CHECKED,
             "toolExecutionNotifications": notifications,
         }],
         "artifacts": artifacts,

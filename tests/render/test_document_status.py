@@ -186,7 +186,7 @@ def test_calendar_records_policy_as_of_and_status(cli, tmp_path: Path) -> None:
     assert "checked as of 2026-08-01" in unfolded
     assert "DTSTAMP:20260801T000000Z" in unfolded
     assert f"icalendar {metadata.version('icalendar')}" in unfolded
-    assert "open errors in the plan check; not for use" in unfolded
+    assert "open errors in the plan check — not for use." in unfolded
     clean = cli("calendar", CLEAN).stdout.replace("\r\n ", "").replace("\n ", "")
     assert "No open errors in the plan check." in clean and "not for use" not in clean
 
