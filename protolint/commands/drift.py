@@ -201,13 +201,9 @@ def command(data: str, plan: str | None, pool: str | None, as_of: date | None, f
     if fmt in ("html", "pdf"):
         from protolint.render.drift_report import render_drift
 
-        from protolint.data.rawfile import decode_text, read_limited
-        from protolint.data.where import DataError
+        from protolint.data.rawfile import text_attachment
 
-        try:
-            attachment = decode_text(read_limited(data)) if fmt == "pdf" else None
-        except DataError:
-            attachment = None  # a workbook or transport file is not text; the PDF names it only
+        attachment = text_attachment(data) if fmt == "pdf" else None
         plan_model = loaded.plan if loaded else None
         document = render_drift(report, fmt, attachment,
                                 study_title=plan_model.study.title if plan_model else None,

@@ -131,3 +131,12 @@ def decode_text(raw: RawFile) -> str:
         raise DataError(Where(raw.path, f"{line}:{column}"),
                         f"control character U+{ord(char):04X} in the text; remove it (only tab and line breaks are allowed)")
     return text
+
+
+def text_attachment(path: str) -> str | None:
+    """A data file as text for a PDF report's attachment, or None when it is not text (a
+    workbook, a SAS transport file): the report then names the file without attaching it."""
+    try:
+        return decode_text(read_limited(path))
+    except DataError:
+        return None

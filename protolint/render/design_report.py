@@ -204,8 +204,10 @@ def render_pdf(report: DesignReport, paper: str = "a4") -> bytes:
 
     html = render_html(report, paper)
     day, _ = document_date(report)
-    with open(report.file, encoding="utf-8-sig") as handle:
-        pilot_text = handle.read()
+    from protolint.data.rawfile import text_attachment
+
+    # The pilot file within the data readers' limits; a workbook or transport file is named, not attached.
+    pilot_text = text_attachment(report.file)
     return html_to_pdf(html, PdfSource(
         document_date=day, attachment_name=os.path.basename(report.file), attachment_text=pilot_text,
         attachment_description="The pilot ratings this report was computed from"), paper=paper)

@@ -70,6 +70,24 @@ def test_pdf_embeds_the_pilot_data_and_reads_back() -> None:
     assert "Caution." in text
 
 
+def test_pdf_of_a_workbook_pilot_names_the_file_without_attaching_it(tmp_path: Path) -> None:
+    """A workbook is not text: the report is rendered and names it; only text pilots are attached."""
+    pypdf = pytest.importorskip("pypdf")
+    openpyxl = pytest.importorskip("openpyxl")
+    import csv
+
+    book = openpyxl.Workbook()
+    sheet = book.active
+    with open(DEMO_PILOT, newline="", encoding="utf-8") as handle:
+        for index, row in enumerate(csv.reader(handle)):
+            sheet.append(row if index == 0 else [*row[:3], float(row[3])])
+    workbook = tmp_path / "pilot.xlsx"
+    book.save(workbook)
+    reader = pypdf.PdfReader(io.BytesIO(render_pdf(report_for(workbook, with_plan=False))))
+    assert reader.attachments == {}
+    assert "pilot.xlsx" in " ".join(page.extract_text() for page in reader.pages)
+
+
 @pytest.mark.skipif(shutil.which("java") is None, reason="the Nu HTML validator needs a Java runtime")
 def test_design_report_is_valid_html(demo_html: str, tmp_path: Path) -> None:
     (tmp_path / "design.html").write_text(demo_html, encoding="utf-8")
