@@ -6,6 +6,7 @@ from typing import TYPE_CHECKING
 
 from protolint import CAUTION
 from protolint.report._common import one_line
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.compare import Change, FindingStatus, PlanComparison
@@ -24,7 +25,7 @@ def render_comparison(fmt: str, comparison: PlanComparison) -> str:
 def summary(comparison: PlanComparison) -> str:
     counts = comparison.counts()
     changes = counts["added"] + counts["removed"] + counts["changed"]
-    return (f"{changes} change{'s' if changes != 1 else ''} ({counts['added']} added, {counts['removed']} removed, "
+    return (f"{plural(changes, 'change')} ({counts['added']} added, {counts['removed']} removed, "
             f"{counts['changed']} changed); findings: {counts['introduced']} introduced, {counts['resolved']} resolved, "
             f"{counts['unchanged']} unchanged"
             + (f", {counts['not-rechecked']} not rechecked (the new version does not pass the schema and reference checks)"

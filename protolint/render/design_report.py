@@ -17,6 +17,7 @@ from typing import Any
 from protolint import CAUTION, __version__
 from protolint.analysis.design import COMPONENT_KEYS, COMPONENT_WORDS, DesignReport
 from protolint.render.charts import MATPLOTLIB_STYLE, inline_svg
+from protolint.wording import plural
 
 _BLUE, _RED, _GOLD, _GREY = "#1f4e79", "#b03a2e", "#7a5c00", "#8a949e"
 
@@ -128,7 +129,7 @@ def dstudy_chart(report: DesignReport) -> str:
             colour = palette[index % len(palette)]
             used, other = (g, phi) if report.coefficient == "g" else (phi, g)
             axes.plot(ks, used, color=colour, linewidth=1.6, marker="o", markersize=3,
-                      label=f"{m} occasion{'s' if m > 1 else ''}")
+                      label=plural(m, "occasion"))
             axes.plot(ks, other, color=colour, linewidth=0.9, linestyle="--")
         name = "Eρ²" if report.coefficient == "g" else "Φ"
         other_name = "Φ" if report.coefficient == "g" else "Eρ²"

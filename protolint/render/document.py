@@ -20,6 +20,7 @@ from protolint import CAUTION, __version__
 from protolint.findings import Finding, PlanResult, PolicyRecord, Severity
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Plan
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.pipeline import PolicyArg
@@ -119,7 +120,7 @@ class DocumentStatus:
         if not self.draft:
             return ""
         count = len(self.open_errors)
-        return f"Draft — {count} open error{'s' if count != 1 else ''} in the plan check — not for use"
+        return f"Draft — {plural(count, 'open error')} in the plan check — not for use"
 
     @property
     def summary(self) -> str:

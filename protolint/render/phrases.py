@@ -11,6 +11,7 @@ from datetime import date
 from protolint.plan.model import Criterion, Instrument, Plan, RaterPool, Sop
 from protolint.render.document import Fact
 from protolint.render.environment import number, words
+from protolint.wording import plural
 
 BLINDING_WORDS = {
     "treatment": "the participant's treatment allocation",
@@ -93,7 +94,7 @@ def scale_text(instrument: Instrument) -> str:
     if scale.min is not None and scale.max is not None:
         text += f", {number(scale.min)} to {number(scale.max)}"
     if scale.items:
-        text += f", {scale.items} item{'s' if scale.items != 1 else ''}"
+        text += f", {plural(scale.items, 'item')}"
     if scale.levels:
         text += f", {scale.levels} levels"
     return text

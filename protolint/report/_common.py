@@ -10,6 +10,7 @@ from typing import TYPE_CHECKING, Any, Iterable, Sequence
 
 from protolint.errors import escape_control
 from protolint.errors import one_line as one_line  # re-exported for the formatters
+from protolint.wording import plural as counted
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding, PlanResult
@@ -77,7 +78,8 @@ def plan_counts(plan: PlanResult) -> dict[str, int]:
 
 
 def plural(count: int, word: str) -> str:
-    return f"{count} {word}" if count == 1 or word == "waived" else f"{count} {word}s"
+    """``protolint.wording.plural``, except that "waived" does not take an "s"."""
+    return f"{count} waived" if word == "waived" else counted(count, word)
 
 
 def counts_phrase(counts: dict[str, int], *, skip_zero: bool = False) -> str:
