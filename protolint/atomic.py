@@ -10,9 +10,19 @@ Before writing it refuses a target that
   replace ``/dev/null`` or a pipe with a regular file),
 - is a symbolic link to nothing.
 
+The null device (``os.devnull``, or any name or link for the same character device) is the
+one device taken: CI scripts give ``-o /dev/null`` to run a command for its exit code only,
+so the content is discarded and nothing is renamed over the device.
+
 A symbolic link to a regular file is followed: the file it points to is replaced and the link
 stays. The new file keeps the mode of the file it replaces; a new file gets 0666 minus the
 umask, as ``>`` in a shell would.
+
+A file with other names (hard links, ``st_nlink > 1``) is replaced like any other, and a
+one-line warning on standard error says that its other names keep the previous content.
+Writing in place instead would keep every name in step but give up the all-or-nothing write,
+and would change files that backup snapshots and package caches share by hard link; refusing
+would stop every run in such a folder. Replacing is what an editor's "save by rename" does.
 
 The temporary file has no name while it is written where Linux allows it (``O_TMPFILE``): it
 is linked under a temporary name only once complete, and renamed at once. Elsewhere it is
@@ -56,6 +66,33 @@ def _same_file(a: os.stat_result, b: os.stat_result) -> bool:
     return (a.st_dev, a.st_ino) == (b.st_dev, b.st_ino)
 
 
+def _null_device_identity() -> int | None:
+    # The null device's device number, so /dev/null, a symlink to it or a second device node
+    # for it are all recognised; None where os.devnull is no character device (Windows' "nul").
+    try:
+        info = os.stat(os.devnull)
+    except OSError:
+        return None
+    return info.st_rdev if stat.S_ISCHR(info.st_mode) else None
+
+
+def _is_null_device(info: os.stat_result) -> bool:
+    if not stat.S_ISCHR(info.st_mode):
+        return False
+    null = _null_device_identity()
+    return null is not None and info.st_rdev == null
+
+
+def is_discard(target: str | os.PathLike[str]) -> bool:
+    """Whether ``target`` is the null device, where output is discarded instead of written."""
+    if os.fspath(target) == os.devnull:
+        return True
+    try:
+        return _is_null_device(os.stat(target))
+    except (OSError, ValueError):
+        return False
+
+
 def _current_inputs() -> tuple[str, ...]:
     # The command class records the run's input files in the click context (see
     # ``commands.base``); library callers outside a command pass ``inputs`` themselves.
@@ -72,12 +109,17 @@ def _current_inputs() -> tuple[str, ...]:
 def check_output(target: str | os.PathLike[str], inputs: Iterable[str | os.PathLike[str]] | None = None) -> Path:
     """The path to write for ``target`` (a symbolic link resolved), or a one-line error.
 
+    The null device is returned as it is given (see :func:`is_discard`).
+
     Raises
     ------
     ProtolintError
-        When the target is an input of the run, not a regular file, or a dangling link.
+        When the target is an input of the run, not a regular file (other than the null
+        device), or a dangling link.
     """
     path = Path(target)
+    if is_discard(path):
+        return path
     try:
         link = os.lstat(path)
     except FileNotFoundError:
@@ -186,12 +228,16 @@ def write_atomic(target: str | os.PathLike[str], content: str | bytes,
     """
     path = Path(target)
     real = check_output(path, inputs)
+    if is_discard(real):
+        return
     data = content.encode("utf-8") if isinstance(content, str) else content
     folder = real.parent if str(real.parent) else Path(".")
+    other_names = _other_names(real)
     try:
         folder.mkdir(parents=True, exist_ok=True)
         mode = _new_mode(real)
         if _link_anonymous(folder, real, data, mode):
+            _warn_other_names(path, other_names)
             return
         temporary = _part_name(folder, real)
         fd = os.open(temporary, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
@@ -210,3 +256,25 @@ def write_atomic(target: str | os.PathLike[str], content: str | bytes,
         if isinstance(error, OSError):
             raise ProtolintError(f"{path}: cannot write: {error.strerror}") from None
         raise
+    _warn_other_names(path, other_names)
+
+
+def _other_names(real: Path) -> int:
+    """How many other names (hard links) the file about to be replaced has."""
+    try:
+        return max(os.stat(real).st_nlink - 1, 0)
+    except OSError:
+        return 0
+
+
+def _warn_other_names(path: Path, others: int) -> None:
+    if not others:
+        return
+    import click
+
+    from protolint.errors import one_line
+    from protolint.wording import plural
+
+    them = "it keeps" if others == 1 else "they keep"
+    click.echo(one_line(f"protolint: warning: {path} had {plural(others, 'other name')} (hard links); it was replaced "
+                        f"by a new file, and {them} the previous content"), err=True)

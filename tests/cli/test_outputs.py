@@ -1,8 +1,9 @@
 """Outputs never lose or damage a file, and the command line keeps its one-line contract.
 
 --output is refused (exit 2, one line, before any work) when it is an input of the same run,
-a folder, a device, a FIFO or a symbolic link to one; a symlink to a regular file is written
-through and kept; an existing file keeps its mode, a new one gets 0666 minus the umask; ``-``
+a folder, a device other than the null device, a FIFO or a symbolic link to one; the null
+device discards the output; a file with other names (hard links) is replaced with a warning;
+a symlink to a regular file is written through and kept; an existing file keeps its mode, a new one gets 0666 minus the umask; ``-``
 is standard output; Ctrl-C and SIGTERM end with one line and exit 130 / 143, leaving no
 output and no temporary file. Usage errors are one line; ``--as-of`` takes only YYYY-MM-DD.
 """
@@ -64,18 +65,74 @@ def test_check_refuses_to_overwrite_the_plan_it_checks(tmp_path: Path) -> None:
 def test_folder_device_fifo_and_links_to_them_are_refused(ratings: Path, tmp_path: Path) -> None:
     fifo = tmp_path / "pipe"
     os.mkfifo(fifo)
-    to_device, to_fifo, dangling = tmp_path / "null.txt", tmp_path / "fifo.txt", tmp_path / "nowhere.txt"
-    to_device.symlink_to("/dev/null")
+    to_device, to_fifo, dangling = tmp_path / "zero.txt", tmp_path / "fifo.txt", tmp_path / "nowhere.txt"
+    to_device.symlink_to("/dev/zero")
     to_fifo.symlink_to(fifo)
     dangling.symlink_to(tmp_path / "missing" / "file.txt")
-    cases = {tmp_path: "directory", Path("/dev/null"): "character device", fifo: "FIFO",
+    cases = {tmp_path: "directory", Path("/dev/zero"): "character device", fifo: "FIFO",
              to_device: "symbolic link to a character device", to_fifo: "symbolic link to a FIFO",
              dangling: "symbolic link to a file that does not exist"}
     for target, fragment in cases.items():
         one_line_error(run("agreement", ratings, "--output", target), fragment)
-    assert stat.S_ISCHR(os.stat("/dev/null").st_mode)
+    assert stat.S_ISCHR(os.stat("/dev/zero").st_mode)
     assert stat.S_ISFIFO(os.lstat(fifo).st_mode)
     assert to_device.is_symlink() and to_fifo.is_symlink()
+
+
+@pytest.mark.parametrize("arguments", [
+    ("agreement", "{ratings}", "--format", "json"),
+    ("consistency", "{ratings}"),
+    ("check", str(DEMO_PLAN), "--format", "sarif", "--fail-on", "never"),
+    ("design", "{pilot}", "--format", "pdf"),
+], ids=["agreement", "consistency", "check", "design-pdf"])
+def test_the_null_device_discards_the_output(arguments: tuple[str, ...], ratings: Path, tmp_path: Path) -> None:
+    pilot = tmp_path / "pilot.csv"
+    pilot.write_text("subject,rater,score\n" + "".join(f"S{s},R{r},{(s * 3 + r) % 5}\n" for s in range(6) for r in range(3)),
+                     encoding="utf-8")
+    null_link = tmp_path / "discard.txt"
+    null_link.symlink_to(os.devnull)
+    command = [part.format(ratings=ratings, pilot=pilot) for part in arguments]
+    for target in (os.devnull, null_link):
+        result = run(*command, "--output", target, cwd=tmp_path)
+        assert result.returncode == 0, result.stderr
+        assert result.stdout == ""
+        assert "refusing" not in result.stderr
+    assert stat.S_ISCHR(os.stat(os.devnull).st_mode)
+    assert null_link.is_symlink()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["discard.txt", "pilot.csv", "ratings.csv"]
+
+
+def test_the_null_device_keeps_the_exit_code() -> None:
+    # The reason CI discards a report: the exit code alone says whether the plan passed
+    # (the demo plan has errors on purpose).
+    plan = DEMO_PLAN
+    shown = run("check", plan, "--format", "json", "--fail-on", "error")
+    discarded = run("check", plan, "--format", "json", "--fail-on", "error", "-o", os.devnull)
+    assert shown.returncode == 1, shown.stderr
+    assert discarded.returncode == shown.returncode
+    assert discarded.stdout == ""
+
+
+def test_a_file_with_other_names_is_replaced_with_a_warning(ratings: Path, tmp_path: Path) -> None:
+    report, other = tmp_path / "report.json", tmp_path / "copy-of-report.json"
+    report.write_text("old", encoding="utf-8")
+    os.link(report, other)
+    result = run("agreement", ratings, "--format", "json", "--output", report)
+    assert result.returncode == 0, result.stderr
+    assert report.read_text(encoding="utf-8").startswith("{")
+    assert other.read_text(encoding="utf-8") == "old"
+    assert os.stat(report).st_nlink == 1
+    warning = [line for line in result.stderr.splitlines() if "warning" in line]
+    assert warning == [f"protolint: warning: {report} had 1 other name (hard links); it was replaced by a new file, "
+                       "and it keeps the previous content"]
+
+
+def test_a_file_with_one_name_is_replaced_without_a_warning(ratings: Path, tmp_path: Path) -> None:
+    report = tmp_path / "report.json"
+    report.write_text("old", encoding="utf-8")
+    result = run("agreement", ratings, "--format", "json", "--output", report)
+    assert result.returncode == 0, result.stderr
+    assert "warning" not in result.stderr
 
 
 def test_a_symlink_to_a_regular_file_is_written_through_and_kept(ratings: Path, tmp_path: Path) -> None:
