@@ -83,12 +83,17 @@ def read_ratings(path: str, scale: str, *, as_table: bool = False, read_options:
     from protolint.data import read_rating_table
 
     if as_table:
-        table = read_rating_table(path, read_options, numeric=True, kind="category", scale="counts", allow_constant=True)
+        table = read_rating_table(path, read_options, numeric=True, kind="category",
+                                  number_reason="a contingency table (--table) holds counts", allow_constant=True)
         if not looks_like_contingency_table(table):
             raise LocatedError(path, 1, None, "--table needs a square table of whole counts whose row labels (first column) "
                                               "are the same categories as the column headers")
         return _expand_table(table)
-    table = read_rating_table(path, read_options, numeric=scale != "nominal", kind="rater", scale=scale, allow_constant=True)
+    numeric = scale != "nominal"
+    # Text categories are read on a nominal scale only: say so where a number was needed.
+    reason = (f"ratings on {'an' if scale[0] in 'aeiou' else 'a'} {scale} scale must be numbers "
+              "(--scale nominal reads text categories)") if numeric else None
+    table = read_rating_table(path, read_options, numeric=numeric, kind="rater", number_reason=reason, allow_constant=True)
     if looks_like_contingency_table(table):
         raise LocatedError(
             path, 1, None,

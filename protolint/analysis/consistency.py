@@ -89,7 +89,7 @@ def analyse_file(path: str, confidence: float = 0.95, read_options: ReadOptions 
 
     if not 0.0 < confidence < 1.0:
         raise ProtolintError(f"--confidence must be between 0 and 1, got {confidence}")
-    table = read_rating_table(path, read_options, numeric=True, kind="item", scale="item scores", allow_constant=True)
+    table = read_rating_table(path, read_options, numeric=True, kind="item", number_reason="item scores must be numbers", allow_constant=True)
     return analyse(table, confidence)
 
 

@@ -757,6 +757,19 @@ class _RaterInput:
     sites: set[str] = field(default_factory=set)
 
 
+# The instrument of ratings whose data has no instrument column, judged without a plan: shown
+# as "-" where a table has an instrument column, and in words by instrument_words.
+UNNAMED_INSTRUMENT = "-"
+
+
+def instrument_words(instrument: str) -> str:
+    """The instrument as a sentence names it: "instrument HLSC8", or "the ratings (the data has
+    no instrument column)" for :data:`UNNAMED_INSTRUMENT`."""
+    if instrument == UNNAMED_INSTRUMENT:
+        return "the ratings (the data has no instrument column)"
+    return f"instrument {instrument}"
+
+
 def _assign(data: RatingData, plan: Plan | None, options: Options) -> dict[tuple[str, str], _RaterInput]:
     roster = {r.id: r for r in plan.roster} if plan else {}
     pools = {p.id: p for p in plan.rater_pools} if plan else {}
@@ -774,7 +787,7 @@ def _assign(data: RatingData, plan: Plan | None, options: Options) -> dict[tuple
             continue
         if rating.instrument is None:
             if plan is None:
-                instrument = "-"
+                instrument = UNNAMED_INSTRUMENT
             else:
                 choices = pools[pool_id].instruments
                 if len(choices) != 1:
@@ -868,8 +881,12 @@ def analyse(data: RatingData, loaded: LoadedPlan | None, options: Options) -> Dr
         chosen = passed or keys
         sd, df = _pooled_sd([r.deviation for r in groups[key].certification] for key in chosen)
         if not df or not sd > 0:
-            raise ProtolintError(f"drift: cannot estimate the scale of {instrument} from the certification ratings "
-                                 f"(pooled SD {sd:g} on {df} degrees of freedom); give --scale-sd")
+            who = "certified rater" if passed else "rater"
+            reason = (f"no {who} has more than one certification rating" if not df else
+                      f"each {who}'s certification ratings deviate from the reference by the same amount "
+                      f"(pooled within-rater SD 0 on {df} degrees of freedom)")
+            raise ProtolintError(f"drift: cannot estimate the SD that standardises the deviations of "
+                                 f"{instrument_words(instrument)}: {reason}; give --scale-sd")
         scale_sd[instrument] = (sd, f"pooled within-rater SD of certification deviations, {len(chosen)} "
                                     f"{'certified ' if passed else ''}{'rater' if len(chosen) == 1 else 'raters'}, {df} df")
 

@@ -31,7 +31,7 @@ def _num(value: float | None, digits: int = 2) -> str:
 
 def render_text(report: DriftReport) -> str:
     """The terminal report: what to do first, then the evidence."""
-    from protolint.analysis.drift import STATUS_WORDS
+    from protolint.analysis.drift import STATUS_WORDS, instrument_words
 
     width = 100
     lines = [f"Rater drift as of {report.as_of}" + (f" — {report.study}" if report.study else ""),
@@ -103,7 +103,8 @@ def render_text(report: DriftReport) -> str:
     for rule in report.rules:
         lines += ["  " + text for text in click.wrap_text(f"{rule.pool}: {report.plain_words(rule)}", width - 2).splitlines()]
     for instrument, (sd, source) in report.scale_sd.items():
-        lines.append(f"  scale of {instrument}: SD {sd:.3f} points per rating ({source})")
+        lines.append(f"  deviations of {instrument_words(instrument)} are standardised by an SD of {sd:.3f} points "
+                     f"per rating ({source})")
 
     lines += ["", "WHOLE GROUP AND SITES (raters with their own signal left out; a shift the others share "
                   "points at the reference scores, the instrument or training)"]

@@ -25,10 +25,12 @@ __all__ = ["PRESETS", "ROLES", "DataError", "Provenance", "RatingTable", "ReadOp
 
 
 def read_rating_table(path: str, options: ReadOptions | None = None, *, numeric: bool = True, kind: str = "rater",
-                      scale: str | None = None, min_columns: int = 2, allow_constant: bool = False) -> RatingTable:
+                      number_reason: str | None = None, min_columns: int = 2, allow_constant: bool = False) -> RatingTable:
     """Read a ratings (``kind="rater"``) or items (``kind="item"``) table from any format.
 
     ``numeric=False`` (nominal scale) accepts text categories, coded by their sorted labels;
+    ``number_reason`` says why the cells must be numbers ("item scores must be numbers"), for
+    the message about one that is not;
     ``allow_constant`` accepts a column with one value throughout (the analysis then says so).
     """
     from protolint.data.readers import read_source
@@ -36,7 +38,7 @@ def read_rating_table(path: str, options: ReadOptions | None = None, *, numeric:
 
     options = options or ReadOptions()
     source = read_source(path, options.input_format, options.sheet)
-    return build_table(source, options, numeric=numeric, kind=kind, scale=scale, min_columns=min_columns,
+    return build_table(source, options, numeric=numeric, kind=kind, number_reason=number_reason, min_columns=min_columns,
                        allow_constant=allow_constant)
 
 

@@ -181,13 +181,13 @@ def long_rows(source: SourceTable, options: ReadOptions, column_role: str, unit_
 
 # --- coding -----------------------------------------------------------------------------
 
-def _number(cell: Cell, grid: _Grid, i: int, j: int, column: str, scale_note: str) -> float:
+def _number(cell: Cell, grid: _Grid, i: int, j: int, column: str, number_note: str) -> float:
     try:
         return parse_number(cell)
     except ValueError as error:
         reason = str(error)
         if reason.endswith("is not a number"):
-            reason += f"{scale_note}; leave the cell empty for a missing value"
+            reason += f"{number_note}; leave the cell empty for a missing value"
         raise DataError(grid.place(i, j), f"column {column!r}: {reason}") from None
 
 
@@ -197,10 +197,13 @@ def _is_text(cell: Cell) -> bool:
     return isinstance(cell, str) and not is_number_text(cell)
 
 
-def code_cells(grid: _Grid, columns: tuple[str, ...], numeric: bool, scale: str | None) -> tuple[NDArray[np.float64], tuple[str, ...] | None]:
-    """Cells as numbers, or (nominal scale, text found) as indices into sorted labels."""
+def code_cells(grid: _Grid, columns: tuple[str, ...], numeric: bool, number_reason: str | None) -> tuple[NDArray[np.float64], tuple[str, ...] | None]:
+    """Cells as numbers, or (nominal scale, text found) as indices into sorted labels.
+
+    ``number_reason`` says why the cells must be numbers, for the message about one that is
+    not: "'x' is not a number; item scores must be numbers; leave the cell empty …"."""
     values = np.full((len(grid.subjects), len(columns)), np.nan)
-    scale_note = f" (the scale is {scale})" if scale else ""
+    number_note = f"; {number_reason}" if number_reason else ""
     text_found = not numeric and any(_is_text(cell) for row in grid.cells for cell in row)
     if text_found:
         labels = tuple(sorted({cell_text(cell) for row in grid.cells for cell in row if cell is not None}))
@@ -213,7 +216,7 @@ def code_cells(grid: _Grid, columns: tuple[str, ...], numeric: bool, scale: str 
     for i, row in enumerate(grid.cells):
         for j, cell in enumerate(row):
             if cell is not None:
-                values[i, j] = _number(cell, grid, i, j, columns[j], scale_note)
+                values[i, j] = _number(cell, grid, i, j, columns[j], number_note)
     return values, None
 
 
@@ -254,8 +257,9 @@ LAYOUTS = {
 
 
 def build_table(source: SourceTable, options: ReadOptions | None = None, *, numeric: bool = True, kind: str = "rater",
-                scale: str | None = None, min_columns: int = 2, allow_constant: bool = False) -> RatingTable:
-    """The rating table of ``source``, wide or (roles given) long.
+                number_reason: str | None = None, min_columns: int = 2, allow_constant: bool = False) -> RatingTable:
+    """The rating table of ``source``, wide or (roles given) long; ``number_reason`` says why
+    the cells must be numbers, for the message about one that is not (see :func:`code_cells`).
 
     Raises
     ------
@@ -277,7 +281,7 @@ def build_table(source: SourceTable, options: ReadOptions | None = None, *, nume
         grid = wide_rows(source, columns)
         id_header = source.header[0]
         provenance = _provenance(source, "wide", len(grid.subjects))
-    values, labels = code_cells(grid, columns, numeric, scale)
+    values, labels = code_cells(grid, columns, numeric, number_reason)
     check_columns(source.header_where(), columns, values, labels, kind, allow_constant)
     return RatingTable(path=source.path, id_header=id_header, columns=columns, subjects=tuple(grid.subjects),
                        lines=tuple(grid.lines), values=values, labels=labels, provenance=provenance)

@@ -129,7 +129,8 @@ BAD_FILES = {
     "empty.csv": ("", ":1:0: the file is empty"),
     "semicolons.csv": ("subject;a;b\n1;2;3\n2;3;4\n", ":1:0: the header is one field containing semicolons"),
     "ragged.csv": ("subject,a,b\n1,2,3\n2,3\n", ":3:0: row has 2 fields, the header has 3"),
-    "text.csv": ("subject,a,b\n1,2,3\n2,3,high\n", ":3:0: column 'b': 'high' is not a number (the scale is interval)"),
+    "text.csv": ("subject,a,b\n1,2,3\n2,3,high\n", ":3:0: column 'b': 'high' is not a number; ratings on an interval scale must be numbers "
+                              "(--scale nominal reads text categories); leave the cell empty for a missing value"),
     "one_rater.csv": ("subject,a\n1,2\n2,3\n", ":1:0: found 1 rater column;"),
     "one_subject.csv": ("subject,a,b\n1,2,3\n", ":2:0: found 1 subject row; at least 2 are needed"),
     "duplicate.csv": ("subject,a,b\n1,2,3\n1,3,4\n", ":3:0: subject '1' appears again (first on line 2)"),

@@ -75,7 +75,8 @@ def test_missing_answers_are_dropped_and_reported(tmp_path: Path) -> None:
     "content,expected",
     [
         ("", ":1:0: the file is empty"),
-        ("id,q1,q2\n1,2,3\n2,x,4\n", ":3:0: column 'q1': 'x' is not a number"),
+        ("id,q1,q2\n1,2,3\n2,x,4\n", ":3:0: column 'q1': 'x' is not a number; item scores must be numbers; "
+                                     "leave the cell empty for a missing value"),
         ("id\tq1\tq2\n1\t2\t3\n", ":1:0: the header is one field containing tabs"),
         ("id,q1\n1,2\n2,3\n", ":1:0: found 1 item column;"),
     ],

@@ -106,6 +106,34 @@ def test_bad_files_exit_2_with_file_and_line_and_write_nothing(tmp_path: Path, b
     assert not target.exists()
 
 
+@pytest.mark.parametrize("instrument_column, rows, message", [
+    # No instrument column and no plan: the sentence names the ratings, not a placeholder.
+    (False, ["2026-01-05,S1,A,C1,10,10,certification", "2026-01-05,S1,A,C2,12,12,certification",
+             "2026-01-05,S1,A,C3,14,14,certification", "2026-02-05,S1,A,C1,11,10,monitoring"],
+     "drift: cannot estimate the SD that standardises the deviations of the ratings (the data has no instrument "
+     "column): each certified rater's certification ratings deviate from the reference by the same amount "
+     "(pooled within-rater SD 0 on 2 degrees of freedom); give --scale-sd"),
+    (True, ["2026-01-05,S1,A,C1,10,10,certification,HX", "2026-02-05,S1,A,C1,11,10,monitoring,HX"],
+     "drift: cannot estimate the SD that standardises the deviations of instrument HX: no rater has more than one "
+     "certification rating; give --scale-sd"),
+])
+def test_an_unestimable_scale_names_what_it_is_about(tmp_path: Path, instrument_column: bool, rows: list[str],
+                                                     message: str) -> None:
+    data = tmp_path / "flat.csv"
+    header = HEADER.rstrip("\n") + (",instrument\n" if instrument_column else "\n")
+    data.write_text(header + "\n".join(rows) + "\n", encoding="utf-8")
+    done = process(str(data))
+    assert done.returncode == 2 and done.stdout == ""
+    assert done.stderr == f"protolint: {message}\n"
+
+
+def test_the_text_report_names_the_scale_in_words(tmp_path: Path) -> None:
+    code, out, err = run(str(stable_file(tmp_path)), "--scale-sd", "1.5", "--fail-on", "never")
+    assert code == 0, err
+    assert ("  deviations of the ratings (the data has no instrument column) are standardised by an SD of 1.500 "
+            "points per rating (--scale-sd)") in out.splitlines()
+
+
 def test_tsv_is_read(tmp_path: Path) -> None:
     csv_text = stable_file(tmp_path).read_text(encoding="utf-8")
     tsv = tmp_path / "stable.tsv"
