@@ -28,6 +28,7 @@ from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.analysis.design_plan import PlanInputs
+    from protolint.data.roles import ReadOptions
 
 COEFFICIENTS = ("g", "phi")
 
@@ -63,19 +64,21 @@ COMPONENT_WORDS: dict[str, str] = {
     "r:p": "raters within participants, residual",
 }
 
-_COLUMNS = ("subject", "rater", "occasion", "score")
+# The roles of a pilot file's columns (one row per rating); --subject … name other columns.
+PILOT_COLUMNS = ("subject", "rater", "occasion", "score")
 _REQUIRED = ("subject", "rater", "score")
 
 
 # --------------------------------------------------------------------------- input
 
-def read_rows(path: str) -> list[tuple[int, list[str]]]:
+def read_rows(path: str, read_options: ReadOptions | None = None) -> list[tuple[int, list[str]]]:
     """The rows of a pilot file with their row numbers (header first), columns named like the
-    roles: every format through the shared data reader (its size and cell limits, strict
-    decoding and located errors), so the validation below is the only design-specific part."""
+    roles: every format, sheet, column mapping and row filter through the shared data reader
+    (its size and cell limits, strict decoding and located errors), so the validation below
+    is the only design-specific part."""
     from protolint.data.records import read_role_rows
 
-    return read_role_rows(path, None, _COLUMNS, skip_missing_score=False)[0]
+    return read_role_rows(path, read_options, PILOT_COLUMNS, skip_missing_score=False)[0]
 
 
 @dataclass(frozen=True)
@@ -116,14 +119,15 @@ def pilot_from_rows(path: str, rows: list[tuple[int, list[str]]]) -> PilotRating
     if not rows:
         raise LocatedError(path, 1, None, "the file is empty; expected a header row: subject,rater,occasion,score (occasion optional)")
     # The reader has refused ragged rows, a wrong delimiter and a column named twice; the
-    # header holds the roles it found, in the order of _COLUMNS.
+    # header holds the roles it found, in the order of PILOT_COLUMNS.
     header_line, header = rows[0]
     names = [cell.strip().lower() for cell in header]
     for required in _REQUIRED:
         if required not in names:
             raise LocatedError(path, header_line, None,
-                               f"no {required!r} column; the header must name subject, rater, score (and optionally occasion), found {', '.join(names)}")
-    col = {name: names.index(name) for name in _COLUMNS if name in names}
+                               f"no {required!r} column; the header must name subject, rater, score (and optionally occasion), "
+                               f"or --{required} must name its column; found {', '.join(names) or 'none of them'}")
+    col = {name: names.index(name) for name in PILOT_COLUMNS if name in names}
     has_occasion = "occasion" in col
     subject_ids: dict[str, int] = {}
     rater_ids: dict[str, int] = {}
@@ -179,9 +183,10 @@ def pilot_from_rows(path: str, rows: list[tuple[int, list[str]]]) -> PilotRating
     )
 
 
-def read_pilot(path: str) -> PilotRatings:
-    """Read and validate a pilot file."""
-    return pilot_from_rows(path, read_rows(path))
+def read_pilot(path: str, read_options: ReadOptions | None = None) -> PilotRatings:
+    """Read and validate a pilot file (``read_options``: the sheet, column roles and filters
+    of ``--sheet``, ``--subject`` …)."""
+    return pilot_from_rows(path, read_rows(path, read_options))
 
 
 def file_sha256(path: str) -> str:

@@ -2,16 +2,20 @@
 
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import click
 
-from protolint.analysis.design import LIMITS_HELP as DESIGN_LIMITS
+from protolint.analysis.design import LIMITS_HELP as DESIGN_LIMITS, PILOT_COLUMNS
 
 from protolint import CAUTION
 from protolint.commands.base import ProtolintCommand
+from protolint.data.options import reader_options
 from protolint.errors import ProtolintError
 from protolint.wording import plural
+
+if TYPE_CHECKING:
+    from protolint.data.roles import ReadOptions
 
 FORMATS = ("text", "json", "html", "pdf")
 
@@ -134,16 +138,19 @@ def render_text(report: dict[str, Any]) -> str:
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True, help="Output format.")
 @click.option("--output", "-o", type=click.Path(dir_okay=False), help="Write to this file (required for pdf).")
 @click.option("--paper", type=click.Choice(("a4", "letter")), default="a4", show_default=True, help="Paper size (html, pdf).")
+@reader_options(roles=PILOT_COLUMNS)
 def command(
     pilot: str, plan_file: str | None, design: str | None, coefficient: str | None, effect_size: float | None,
     alpha: float | None, power: float | None, sides: str | None, ratio: float | None, dropout: float | None,
     cost_participant: float, cost_rating: float, cost_occasion: float, max_raters: int, max_occasions: int,
-    fmt: str, output: str | None, paper: str,
+    fmt: str, output: str | None, paper: str, read_options: ReadOptions,
 ) -> None:
     """From pilot ratings to the cheapest design that reaches the target power.
 
-    PILOT is a long-form CSV file with the columns subject, rater, score and optionally
-    occasion (one row per rating). The design is detected: raters nested in subjects (r:p)
+    PILOT has one row per rating with the columns subject, rater, score and optionally
+    occasion (other names mapped with --subject, --rater, --score, --occasion; rows chosen with
+    --where). CSV, TSV, .xlsx (--sheet), Dataset-JSON and SAS transport files are read. The
+    design is detected: raters nested in subjects (r:p)
     when no rater rated two subjects, else subjects x raters (p x r) or subjects x raters x
     occasions (p x r x o). Subjects with missing cells are dropped and counted.
 
@@ -158,6 +165,7 @@ def command(
       protolint design pilot.csv --effect-size 0.4 --power 0.9 --cost-participant 2500 --cost-rating 120
       protolint design pilot.csv --plan plan.yaml --cost-participant 2500 --cost-rating 120 --cost-occasion 300
       protolint design pilot.csv --plan plan.yaml --cost-participant 2500 --format pdf --output design.pdf
+      protolint design pilot.xlsx --sheet Pilot --subject Participant --rater Assessor --score Total --effect-size 0.4
     """
     from protolint.analysis import design as analysis
     from protolint.commands._shared import emit, to_json
@@ -185,7 +193,7 @@ def command(
         given = [name for name, value in comparison_options.items() if value is not None]
         if given:
             raise ProtolintError(f"{', '.join(given)} {'needs' if len(given) == 1 else 'need'} --effect-size (or --plan)")
-    ratings = analysis.read_pilot(pilot)
+    ratings = analysis.read_pilot(pilot, read_options)
     report = analysis.analyse(
         ratings, design=design, coefficient=coefficient, comparison=comparison,
         costs=analysis.Costs(cost_participant, cost_rating, cost_occasion),

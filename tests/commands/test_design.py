@@ -311,3 +311,46 @@ def test_text_report_names_the_optimum_the_saving_and_the_plan() -> None:
     assert "negative estimate" in out and "set to 0" in out
     assert f"on the frontier: {'yes' if report['plan']['on_frontier'] else 'no'}" in out
     assert out.rstrip().endswith(CAUTION.split()[-1])
+
+
+def test_a_workbook_sheet_with_other_column_names_is_read_like_the_csv(tmp_path: Path, brennan_file: Path,
+                                                                        brennan_rows: list[list[str]]) -> None:
+    """The same Brennan (2001) ratings from the second sheet of a workbook, under other column
+    names, give the same report as the CSV (apart from the file named and its hash)."""
+    openpyxl = pytest.importorskip("openpyxl")
+    book = openpyxl.Workbook()
+    book.active.title = "Cover"
+    book.active.append(["simulated pilot export for a test"])
+    sheet = book.create_sheet("Pilot")
+    sheet.append(["Participant", "Assessor", "Session", "Total"])
+    for subject, rater, occasion, score in brennan_rows:
+        sheet.append([subject, rater, occasion, float(score)])
+    workbook = tmp_path / "pilot.xlsx"
+    book.save(workbook)
+    from_csv = run_json(brennan_file, "--effect-size", "0.4", "--cost-participant", "100")
+    from_sheet = run_json(workbook, "--sheet", "Pilot", "--subject", "Participant", "--rater", "Assessor",
+                          "--occasion", "Session", "--score", "Total", "--effect-size", "0.4", "--cost-participant", "100")
+    for report in (from_csv, from_sheet):
+        del report["file"], report["sha256"]
+    assert from_sheet == from_csv
+    assert (from_sheet["design"], from_sheet["subjects"], from_sheet["raters"], from_sheet["occasions"]) == ("p x r x o", 10, 4, 2)
+    # Without the column options the roles are not found: one located line naming the option.
+    code, out, err = run(workbook, "--sheet", "Pilot")
+    assert code == 2 and out == ""
+    assert err == (f"{workbook}:1:0: no 'subject' column; the header must name subject, rater, score (and optionally "
+                   "occasion), or --subject must name its column; found none of them\n")
+
+
+def test_where_keeps_the_rows_of_one_pilot(tmp_path: Path, brennan_rows: list[list[str]]) -> None:
+    """Two instruments' pilots in one long file: --where picks one, and the result is that of
+    the pilot on its own."""
+    alone = write(tmp_path / "alone.csv", ["subject", "rater", "occasion", "score"], brennan_rows)
+    other = [[subject, rater, occasion, str(9 - float(score))] for subject, rater, occasion, score in brennan_rows]
+    both = write(tmp_path / "both.csv", ["subject", "rater", "occasion", "score", "scale"],
+                 [row + ["A"] for row in brennan_rows] + [row + ["B"] for row in other])
+    expected = run_json(alone)
+    chosen = run_json(both, "--where", "scale=A")
+    assert chosen["components"] == expected["components"]
+    assert chosen["dstudy"] == expected["dstudy"]
+    code, _, err = run(both)
+    assert code == 2 and "is already rated on line" in err
