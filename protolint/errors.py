@@ -18,6 +18,12 @@ import click
 # the cursor, recolour a terminal or split a CI log line.
 _CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f\u2028\u2029]")
 
+# Control characters refused in input text, the plan's quoted values and SOP texts as much as
+# data files: C0 controls other than tab, line feed and carriage return; DEL; C1 controls.
+# One definition for the plan and data readers (data/ does not import plan/). Every one of
+# them is also escaped by one_line above, so a message can quote the text that holds one.
+CONTROL_CHARACTERS = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
+
 
 def one_line(text: str) -> str:
     """Text safe to print on a single line: control characters shown as escapes."""

@@ -15,13 +15,12 @@ from __future__ import annotations
 import codecs
 import hashlib
 import os
-import re
 import stat
 from dataclasses import dataclass
 
 from protolint.bounded import read_at_most
 from protolint.data.where import DataError, Where, file_error
-from protolint.errors import line_column
+from protolint.errors import CONTROL_CHARACTERS, line_column
 
 # The largest data file read, and the most cells (values) taken from it. A trial's full export
 # of one instrument is ~10^6 ratings (tens of MB; a few million cells in the long layout);
@@ -42,9 +41,6 @@ _BOMS = {
     codecs.BOM_UTF32_LE: "UTF-32", codecs.BOM_UTF32_BE: "UTF-32",
     codecs.BOM_UTF16_LE: "UTF-16", codecs.BOM_UTF16_BE: "UTF-16",
 }
-
-# C0 controls other than tab, line feed and carriage return; DEL; C1 controls.
-_CONTROL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
 
 
 @dataclass(frozen=True)
@@ -124,7 +120,7 @@ def decode_text(raw: RawFile) -> str:
             hint = " (the file looks like Latin-1 or Windows-1252; save it as UTF-8)" if byte >= 0x80 else ""
         raise DataError(Where(raw.path, f"{line}:{column}"),
                         f"not UTF-8 text: byte 0x{byte:02x} at byte offset {error.start}{hint}") from None
-    found = _CONTROL.search(text)
+    found = CONTROL_CHARACTERS.search(text)
     if found:
         line, column = line_column(text[:found.start()])
         char = found.group(0)

@@ -30,7 +30,7 @@ from typing import Any
 import yaml
 
 from protolint.bounded import read_at_most
-from protolint.errors import LocatedError, line_column
+from protolint.errors import CONTROL_CHARACTERS, LocatedError, line_column
 from protolint.findings import Location
 
 MAX_BYTES = 2 * 1024 * 1024
@@ -72,9 +72,6 @@ _BOMS = {
     b"\xff\xfe": "UTF-16",
     b"\xfe\xff": "UTF-16",
 }
-# Control characters other than tab and line breaks (C0, DEL, C1): refused in a quoted plan
-# value once its escapes are decoded, and in an SOP text the plan names.
-CONTROL_CHARACTERS = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f-\x9f]")
 _LONE_CR = re.compile(r"\r(?!\n)")
 _ODD_LINE_BREAKS = {"\u2028": "LINE SEPARATOR", "\u2029": "PARAGRAPH SEPARATOR", "\u0085": "NEXT LINE"}
 
