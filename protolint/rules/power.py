@@ -10,8 +10,8 @@ from __future__ import annotations
 
 from typing import Iterator
 
-from protolint.plan.model import Plan
-from protolint.plan.reliability import individual_use, trial_reliability, true_effect_size
+from protolint.plan.model import Plan, SampleSize
+from protolint.plan.reliability import TrialReliability, individual_use, trial_reliability, true_effect_size
 from protolint.rules._working import PLANNING_AID, fmt
 from protolint.rules import sources as S
 from protolint.rules.sources import cite
@@ -71,6 +71,11 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
       n₁ = (z₁₋α/s + z₁₋β)² (1 + 1/r) / d² + z²/4, within a participant of the exact
       noncentral-t answer (`protolint size` gives the exact one); then divided by (1 − dropout).
 
+    - A reliability of zero or below means the scores carry no signal: no N gives the power
+      (the attenuated effect is zero) and averaging raters does not help, which is reported
+      as such; so is an effect said to be observed with a measure of reliability zero or
+      below (`source_reliability`), from which no error-free effect follows.
+
     Only two-group comparisons of means are recomputed (`power/analysis-not-recomputed`).
 
     **Passes**: d = 0.5 (true score), α = .05 two-sided, power .80, reliability 0.80, dropout 0 and 160 stated.
@@ -89,7 +94,17 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
         return
     rho = found.reliability
     if rho <= 0.0:
-        return  # evidence of no reliability: no sample size recovers the effect (evidence rules report it)
+        yield _no_signal(size, endpoint.id, found)
+        return
+    if size.effect_basis == "observed" and size.source_reliability is not None and size.source_reliability <= 0.0:
+        yield Hit(size.path + ("source_reliability",),
+                  f"the effect size {fmt(d)} is said to be observed with a measure of reliability "
+                  f"{fmt(size.source_reliability)}, which carries no signal and so cannot have shown an effect: the "
+                  f"error-free effect, and the N it needs, cannot be worked out; correct source_reliability or "
+                  f"effect_basis — {PLANNING_AID}",
+                  {"endpoint": endpoint.id, "effect_size": d, "effect_basis": size.effect_basis,
+                   "source_reliability": size.source_reliability, "n_total_stated": size.stated_n_total})
+        return
     effect = true_effect_size(size, rho)
     if effect is None:
         return
@@ -131,6 +146,24 @@ def unadjusted_for_reliability(plan: Plan, ctx: RuleContext) -> Iterator[Hit]:
               f"dropout), not {size.stated_n_total}: {shortfall} short, and the stated N gives about {power_stated:.0%} "
               f"power instead of {size.power:.0%}; enrol more, average more raters, or raise reliability — {PLANNING_AID}",
               facts)
+
+
+def _no_signal(size: SampleSize, endpoint_id: str, found: TrialReliability) -> Hit:
+    """Reliability of zero or below: the scores carry no signal, so no N gives the power.
+
+    The attenuated effect d √ρ is zero (the formula's N grows as 1/ρ without bound), and the
+    mean of any number of such ratings is no more reliable (Spearman–Brown of 0 is 0)."""
+    below = " (below zero: no better than chance)" if found.reliability < 0 else ""
+    return Hit(size.path + ("stated_n_total",),
+               f"endpoint {endpoint_id} is rated with reliability {fmt(found.reliability)}{below} (evidence "
+               f"{found.evidence.id}, {plural(found.ratings, 'rating')} per assessment): its scores carry no signal of the "
+               f"true differences between participants, so no number of participants gives the planned "
+               f"{size.power:.0%} power, the stated {size.stated_n_total} included, and averaging more raters "
+               f"does not help — raise the reliability (rater training, a better-suited instrument) or cite evidence "
+               f"that fits the trial, then size it again — {PLANNING_AID}",
+               {"endpoint": endpoint_id, "evidence": found.evidence.id, "single_rating_reliability": round(found.single, 4),
+                "ratings_averaged": found.ratings, "reliability": round(found.reliability, 6),
+                "n_total_stated": size.stated_n_total, "n_total_needed": None})
 
 
 @rule("power/fewer-raters-than-needed", "warning", computed=True,

@@ -63,6 +63,48 @@ def test_power_rule_uses_the_mean_of_the_trial_raters() -> None:
     assert finding.facts["n_total_needed"] == 156
 
 
+@pytest.mark.parametrize("value, shown", [("0.0", "0"), ("-0.1", "-0.1 (below zero: no better than chance)")])
+def test_power_rule_says_a_reliability_of_zero_carries_no_signal(value: str, shown: str) -> None:
+    """Reliability 0 (or below): the observed effect d sqrt(0) is 0, so no N reaches the power
+    and the rule says so instead of staying silent; a reliability just above zero gives an
+    enormous N from the same rule."""
+    text = _base().replace("        value: 0.85\n", f"        value: {value}\n").replace("        ci: [0.78, 0.90]\n", "")
+    (finding,) = _findings(text, "power/unadjusted-for-reliability")
+    assert finding.severity.name == "ERROR"
+    assert finding.message.startswith(f"endpoint EP-1 is rated with reliability {shown} (evidence EV-A, 1 rating per "
+                                      "assessment): its scores carry no signal")
+    assert "no number of participants gives the planned 80% power, the stated 180 included" in finding.message
+    assert finding.facts["n_total_needed"] is None and finding.facts["reliability"] == float(value)
+    # Two raters averaged do not help: Spearman-Brown of 0 is 0.
+    averaged = text.replace("    raters_per_assessment: 1\n", "    raters_per_assessment: 2\n    combination: independent-mean\n")
+    (finding,) = _findings(averaged, "power/unadjusted-for-reliability")
+    assert "averaging more raters does not help" in finding.message and finding.facts["ratings_averaged"] == 2
+    # Continuity with a small positive reliability 0.01: d_obs = 0.5 x 0.1 = 0.05;
+    # 7.848880 x 2 / 0.0025 + 0.960365 = 6280.06 -> 6281 per group; 6281 / 0.9 = 6978.9 -> 6979 enrolled per group.
+    (small,) = _findings(_base().replace("        value: 0.85\n", "        value: 0.01\n").replace("        ci: [0.78, 0.90]\n", ""),
+                         "power/unadjusted-for-reliability")
+    assert small.facts["n_per_group"] == [6281, 6281] and small.facts["n_total_needed"] == 2 * 6979
+
+
+def test_power_rule_says_an_effect_observed_with_no_reliability_cannot_be_used() -> None:
+    text = _base().replace("  effect_basis: true-score\n", "  effect_basis: observed\n  source_reliability: 0\n")
+    (finding,) = _findings(text, "power/unadjusted-for-reliability")
+    assert finding.pointer == "/sample_size/source_reliability"
+    assert "observed with a measure of reliability 0, which carries no signal" in finding.message
+
+
+def test_check_reports_a_reliability_of_zero_from_the_command_line(tmp_path) -> None:
+    from tests.conftest import run_protolint
+
+    plan = tmp_path / "plan.yaml"
+    plan.write_text(_base().replace("        value: 0.85\n", "        value: 0\n").replace("        ci: [0.78, 0.90]\n", ""),
+                    encoding="utf-8")
+    result = run_protolint("check", plan, "--format", "text")
+    assert result.returncode == 1, result.stderr
+    (line,) = [line for line in result.stdout.splitlines() if "power/unadjusted-for-reliability" in line]
+    assert line.startswith(f"{plan}:") and " error power/unadjusted-for-reliability endpoint EP-1 is rated with reliability 0 " in line
+
+
 def test_raters_rule_working() -> None:
     # r1 = 0.62, target 0.80: k = 0.8 x 0.38 / (0.62 x 0.2) = 2.4516 -> 3; 3 x 0.62 / 2.24 = 0.830357.
     case = build_case("power/fewer-raters-than-needed", CASES / "power" / "fewer-raters-than-needed" / "fail.yaml")
