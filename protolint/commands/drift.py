@@ -31,7 +31,12 @@ def _num(value: float | None, digits: int = 2) -> str:
 
 def render_text(report: DriftReport) -> str:
     """The terminal report: what to do first, then the evidence."""
-    from protolint.analysis.drift import STATUS_WORDS, instrument_words
+    from protolint.analysis.drift import STATUS_WORDS, UNNAMED_INSTRUMENT, instrument_words
+
+    def with_instrument(*parts: str) -> str:
+        # Data with no instrument column has one unnamed instrument: its "-" is a table's
+        # "none", so lines of words leave it out instead of printing it.
+        return ", ".join(part for part in parts if part != UNNAMED_INSTRUMENT)
 
     width = 100
     lines = [f"Rater drift as of {report.as_of}" + (f" — {report.study}" if report.study else ""),
@@ -44,7 +49,7 @@ def render_text(report: DriftReport) -> str:
     if report.due:
         for item in report.due:
             flag = "OVERDUE " if item.overdue else ""
-            lines.append(f"  {item.due}  {flag}{item.rater} ({item.site}, {item.instrument}): {item.action}")
+            lines.append(f"  {item.due}  {flag}{item.rater} ({with_instrument(item.site, item.instrument)}): {item.action}")
             lines += ["      " + text for text in click.wrap_text(item.reason, width - 6).splitlines()]
     else:
         lines.append("  nothing due")
@@ -76,7 +81,8 @@ def render_text(report: DriftReport) -> str:
     if details:
         lines += ["", "WHY"]
         for r in details:
-            lines.append(f"  {r.rater} ({r.instrument}): {STATUS_WORDS[r.status]}")
+            about = with_instrument(r.instrument)
+            lines.append(f"  {r.rater}{f' ({about})' if about else ''}: {STATUS_WORDS[r.status]}")
             if r.certification is not None:
                 lines.append(f"      certification {r.certification.day}, {r.certification.cases} cases: "
                              + "; ".join(r.certification.reasons))
@@ -103,8 +109,8 @@ def render_text(report: DriftReport) -> str:
     for rule in report.rules:
         lines += ["  " + text for text in click.wrap_text(f"{rule.pool}: {report.plain_words(rule)}", width - 2).splitlines()]
     for instrument, (sd, source) in report.scale_sd.items():
-        lines.append(f"  deviations of {instrument_words(instrument)} are standardised by an SD of {sd:.3f} points "
-                     f"per rating ({source})")
+        text = f"deviations of {instrument_words(instrument)} are standardised by an SD of {sd:.3f} points per rating ({source})"
+        lines += ["  " + line for line in click.wrap_text(text, width - 2).splitlines()]
 
     lines += ["", "WHOLE GROUP AND SITES (raters with their own signal left out; a shift the others share "
                   "points at the reference scores, the instrument or training)"]
@@ -112,7 +118,8 @@ def render_text(report: DriftReport) -> str:
         where = f"site {g.site}" if g.site else "all raters"
         signal = f"signal on {g.first_signal} ({g.direction})" if g.first_signal else "no signal"
         left = f" (+{g.left_out} left out)" if g.left_out else ""
-        lines.append(f"  {g.instrument} {where}: {plural(g.raters, 'rater')}{left}, {plural(g.periods, 'period')}, mean deviation "
+        label = " ".join(part for part in (with_instrument(g.instrument), where) if part)
+        lines.append(f"  {label}: {plural(g.raters, 'rater')}{left}, {plural(g.periods, 'period')}, mean deviation "
                      f"{_num(g.mean_deviation)}; {signal}")
 
     lines += ["", "RULES IN FORCE"]

@@ -130,8 +130,13 @@ def test_an_unestimable_scale_names_what_it_is_about(tmp_path: Path, instrument_
 def test_the_text_report_names_the_scale_in_words(tmp_path: Path) -> None:
     code, out, err = run(str(stable_file(tmp_path)), "--scale-sd", "1.5", "--fail-on", "never")
     assert code == 0, err
-    assert ("  deviations of the ratings (the data has no instrument column) are standardised by an SD of 1.500 "
-            "points per rating (--scale-sd)") in out.splitlines()
+    assert ("deviations of the ratings (the data has no instrument column) are standardised by an SD of 1.500 "
+            "points per rating (--scale-sd)") in " ".join(line.strip() for line in out.splitlines())
+    assert max(len(line) for line in out.splitlines() if "standardised" in line or "--scale-sd)" in line) <= 100
+    # Without an instrument column, lines of words name no placeholder instrument.
+    lines = out.splitlines()
+    assert "  all raters: 2 raters, 2 periods, mean deviation 0.10; no signal" in lines, out
+    assert not any(line.startswith("  - ") or "(-)" in line or ", -)" in line for line in lines)
 
 
 def test_tsv_is_read(tmp_path: Path) -> None:
