@@ -106,3 +106,25 @@ def test_sarif_lists_a_text_shared_by_two_plans_once(cli, plan, tmp_path, monkey
     for result in log["runs"][0]["results"]:
         location = result["locations"][0]["physicalLocation"]["artifactLocation"]
         assert uris[location["index"]] == location["uri"]
+
+
+def test_text_markdown_and_html_name_each_text_with_the_start_of_its_digest(cli, plan):
+    short = {path: digest(plan.parent / path)[:12] for path in TEXTS.values()}
+    text = cli("check", plan, "--fail-on", "never").output
+    line = " ".join(text[text.index("SOP texts read (SHA-256): "):].split("\n\n")[0].split())
+    assert line == "SOP texts read (SHA-256): " + ", ".join(f"{path} {short[path]}…" for path in TEXTS.values())
+    markdown = cli("check", plan, "--fail-on", "never", "--format", "markdown").output
+    assert "SOP texts read (SHA-256): " + ", ".join(f"{path} {short[path]}…" for path in TEXTS.values()) in markdown
+    html = cli("check", plan, "--fail-on", "never", "--format", "html").output
+    assert "<dt>SOP texts read (SHA-256)</dt><dd>" + ", ".join(f"{p} {short[p]}…" for p in TEXTS.values()) + "</dd>" in html
+
+
+def test_a_hostile_text_file_name_is_escaped_in_markdown_and_html(cli, plan):
+    name = "sops/<img src=x>_*a*.md"
+    (plan.parent / name).write_bytes((plan.parent / TEXTS["SOP-MON-003"]).read_bytes())
+    plan.write_text(plan.read_text(encoding="utf-8").replace(f"text_file: {TEXTS['SOP-MON-003']}", f"text_file: '{name}'"),
+                    encoding="utf-8")
+    markdown = cli("check", plan, "--fail-on", "never", "--format", "markdown").output
+    assert "sops/&lt;img src=x&gt;\\_\\*a\\*.md" in markdown and "<img" not in markdown
+    html = cli("check", plan, "--fail-on", "never", "--format", "html").output
+    assert "sops/&lt;img src=x&gt;_*a*.md" in html and "<img" not in html
