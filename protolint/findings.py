@@ -7,6 +7,7 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, Mapping
 
 if TYPE_CHECKING:  # for annotations only: the plan layer builds on this module
+    from protolint.plan.sop_texts import SopText
     from protolint.plan.source import LoadedSource
 
 
@@ -110,6 +111,9 @@ class PlanResult:
     rules_not_run: tuple[str, ...] = ()
     """Enabled rules that could not run on this plan (see ``not_run_reason``)."""
     not_run_reason: str | None = None
+    sop_texts: tuple[SopText, ...] = ()
+    """The SOP texts the plan points to that were read (with their SHA-256), so a report
+    records which texts this check saw; a text that could not be read is a finding instead."""
 
     def __post_init__(self) -> None:
         # Sorted here, once, whoever builds the result: every report shows FINDING_ORDER.

@@ -11,6 +11,9 @@ old data into the new one.
 Findings keep their identity across versions by rule and by the id-based pointer of where
 they point (the same idea as SARIF's partial fingerprints, with list positions replaced by
 entry ids so that reordering does not turn a finding into a "new" one).
+
+The SOP full texts the plans point to are compared by their SHA-256 (:mod:`.texts`), since
+the plans can be identical while a text changed.
 """
 
 from __future__ import annotations
@@ -21,6 +24,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, Iterable
 
 from protolint.compare.keyed import keyed, real_path, stable_pointer
+from protolint.compare.texts import TEXT_CHANGE_KINDS, TextChange, text_changes
 from protolint.compare.words import describe_change
 from protolint.findings import DEFAULT_POLICY_RECORD, Finding, PolicyRecord, Severity, pointer_from_path
 
@@ -28,7 +32,7 @@ if TYPE_CHECKING:
     from protolint.findings import PlanResult
     from protolint.plan.source import LoadedSource
 
-__all__ = ["Change", "FindingStatus", "PlanComparison", "compare_plans"]
+__all__ = ["Change", "FindingStatus", "PlanComparison", "TextChange", "compare_plans"]
 
 CHANGE_KINDS = ("added", "removed", "changed")
 FINDING_STATUSES = ("introduced", "resolved", "unchanged", "not-rechecked")
@@ -95,6 +99,10 @@ class PlanComparison:
     new_as_of: str | None = None
     as_of_given: bool = False
     """True when ``--as-of`` dated both checks; otherwise each version's own plan_date did."""
+    sop_texts: tuple[TextChange, ...] = ()
+    """SOP full texts added, removed, changed or unreadable, in the new file's order."""
+    sop_texts_unchanged: int = 0
+    """SOP texts with the same SHA-256 in both versions."""
 
     def checked_under(self) -> str:
         """"Both versions checked as of … under …", as every check report says it."""
@@ -120,6 +128,16 @@ class PlanComparison:
             counts[item.status] += 1
         return counts
 
+    def text_counts(self) -> dict[str, int]:
+        """SOP texts by what the amendment did to them (``unchanged``: the same SHA-256 in both)."""
+        counts = {kind: 0 for kind in TEXT_CHANGE_KINDS}
+        for change in self.sop_texts:
+            counts[change.kind] += 1
+        return {**counts, "unchanged": self.sop_texts_unchanged}
+
+    def with_text_kind(self, kind: str) -> tuple[TextChange, ...]:
+        return tuple(change for change in self.sop_texts if change.kind == kind)
+
     def to_json(self) -> dict[str, Any]:
         return {
             "old": {"file": self.old_file, "sha256": self.old_sha256, "as_of": self.old_as_of},
@@ -130,6 +148,8 @@ class PlanComparison:
             "changes": [change.to_json() for change in self.changes],
             "findings": {status: [item.to_json() for item in self.with_status(status)] for status in FINDING_STATUSES},
             "patch": list(self.patch),
+            "sop_text_counts": self.text_counts(),
+            "sop_texts": [change.to_json() for change in self.sop_texts],
         }
 
 
@@ -139,6 +159,7 @@ def compare_plans(old: LoadedSource, new: LoadedSource, old_result: PlanResult, 
     ``as_of_given`` when ``--as-of`` dated both)."""
     import jsonpatch
 
+    texts, texts_unchanged = text_changes(old, new, old_result, new_result)
     return PlanComparison(
         old_file=old.file,
         new_file=new.file,
@@ -149,6 +170,7 @@ def compare_plans(old: LoadedSource, new: LoadedSource, old_result: PlanResult, 
                                         new_rules_ran=rules_ran(new_result))),
         patch=tuple(jsonpatch.make_patch(old.data, new.data).patch),
         policy=policy, old_as_of=old_result.as_of, new_as_of=new_result.as_of, as_of_given=as_of_given,
+        sop_texts=texts, sop_texts_unchanged=texts_unchanged,
     )
 
 

@@ -2,17 +2,19 @@
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+import re
+from typing import TYPE_CHECKING, Callable
 
 from protolint import CAUTION
 from protolint.report._common import one_line
 from protolint.wording import plural
 
 if TYPE_CHECKING:
-    from protolint.compare import Change, FindingStatus, PlanComparison
+    from protolint.compare import Change, FindingStatus, PlanComparison, TextChange
 
 FORMATS = ("text", "json", "markdown", "html")
 TEMPLATE = "diff.html.j2"
+_BACKTICKS = re.compile(r"`+")
 
 
 def render_comparison(fmt: str, comparison: PlanComparison) -> str:
@@ -29,7 +31,36 @@ def summary(comparison: PlanComparison) -> str:
             f"{counts['changed']} changed); findings: {counts['introduced']} introduced, {counts['resolved']} resolved, "
             f"{counts['unchanged']} unchanged"
             + (f", {counts['not-rechecked']} not rechecked (the new version does not pass the schema and reference checks)"
-               if counts["not-rechecked"] else ""))
+               if counts["not-rechecked"] else "")
+            + text_summary(comparison))
+
+
+def text_summary(comparison: PlanComparison) -> str:
+    """"; SOP texts: 1 changed, 0 added, 0 removed, 2 unchanged", when either version names any."""
+    texts = comparison.text_counts()
+    if not any(texts.values()):
+        return ""
+    return (f"; SOP texts: {texts['changed']} changed, {texts['added']} added, {texts['removed']} removed, "
+            f"{texts['unchanged']} unchanged"
+            + (f", {texts['unreadable']} not compared (unreadable)" if texts["unreadable"] else ""))
+
+
+def text_lines_text(change: TextChange) -> str:
+    """Where the ``text_file`` key is in each plan file, as :func:`lines_text` says it for a change."""
+    if change.old_line is None:
+        return f"new line {change.new_line}"
+    if change.new_line is None:
+        return f"old line {change.old_line}"
+    return f"line {change.old_line} → {change.new_line}"
+
+
+def digests_text(change: TextChange) -> str:
+    return f"SHA-256 {change.old_sha256 or '–'} → {change.new_sha256 or '–'}"
+
+
+def omitted_text(change: TextChange) -> str:
+    return (f"… {plural(change.diff_lines_omitted, 'more diff line')} left out (the first {len(change.diff)} are shown)"
+            if change.diff_lines_omitted else "")
 
 
 def lines_text(change: Change) -> str:
@@ -58,6 +89,18 @@ def as_text(comparison: PlanComparison) -> str:
         out.append("")
     else:
         out += ["No change in the plan's content (reordered entries do not count).", ""]
+    if comparison.sop_texts:
+        out.append("Changes in the SOP texts")
+        for text in comparison.sop_texts:
+            out.append(f"  {text.kind:<10} {one_line(text.sentence)}")
+            out.append(f"             {one_line(text.pointer)}  ({text_lines_text(text)})")
+            if text.kind != "unreadable":
+                out.append(f"             {digests_text(text)}")
+            out += [f"             {one_line(problem)}" for problem in text.problems]
+            out += [f"             {one_line(line)}" for line in text.diff]
+            if text.diff_lines_omitted:
+                out.append(f"             {omitted_text(text)}")
+        out.append("")
     for status, heading in (("introduced", "Findings introduced"), ("resolved", "Findings resolved"),
                             ("not-rechecked", "Old findings not rechecked (the new version does not load)")):
         items = comparison.with_status(status)
@@ -91,6 +134,8 @@ def as_markdown(comparison: PlanComparison) -> str:
                 for change in comparison.changes]
     else:
         out.append("No change in the plan's content (reordered entries do not count).")
+    if comparison.sop_texts:
+        out += _markdown_texts(comparison.sop_texts, esc)
     for status in ("introduced", "resolved", "unchanged", "not-rechecked"):
         items = comparison.with_status(status)
         if status == "not-rechecked" and not items:
@@ -106,6 +151,31 @@ def as_markdown(comparison: PlanComparison) -> str:
     return "\n".join(out)
 
 
+def _markdown_texts(texts: tuple[TextChange, ...], esc: Callable[[str], str]) -> list[str]:
+    out = ["", "## Changes in the SOP texts", "", "| Change | What | Pointer (new version) | Lines | SHA-256 (old → new) |",
+           "|---|---|---|---|---|"]
+    out += [f"| {text.kind} | {esc(text.sentence)} | {esc(text.pointer)} | {esc(text_lines_text(text))} "
+            f"| {esc(text.old_sha256 or '–')} → {esc(text.new_sha256 or '–')} |" for text in texts]
+    for text in texts:
+        if text.problems:
+            out += ["", f"SOP {esc(text.sop_id)}, not compared:", ""]
+            out += [f"- {esc(problem)}" for problem in text.problems]
+        if text.diff:
+            # The fence is longer than any run of backticks in the text, so no line of it can close it.
+            fence = "`" * max(3, 1 + max((len(run) for line in text.diff for run in _BACKTICKS.findall(line)), default=0))
+            out += ["", f"SOP {esc(text.sop_id)}, unified diff of its text:", "", fence + "diff", *text.diff, fence]
+            if text.diff_lines_omitted:
+                out += ["", esc(omitted_text(text))]
+    return out
+
+
+def diff_line_class(number: int, line: str) -> str:
+    """The HTML class of line ``number`` (from 0) of a unified diff: its first two lines are the file headers."""
+    if number < 2:
+        return "file"
+    return {"+": "add", "-": "del", "@": "hunk"}.get(line[:1], "same")
+
+
 def as_html(comparison: PlanComparison) -> str:
     from protolint.render.environment import make_env
 
@@ -113,4 +183,5 @@ def as_html(comparison: PlanComparison) -> str:
         comparison=comparison, summary=summary(comparison), lines_text=lines_text, caution=CAUTION,
         introduced=comparison.with_status("introduced"), resolved=comparison.with_status("resolved"),
         unchanged=comparison.with_status("unchanged"), not_rechecked=comparison.with_status("not-rechecked"),
+        text_lines_text=text_lines_text, omitted_text=omitted_text, diff_line_class=diff_line_class,
     )

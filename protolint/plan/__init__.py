@@ -31,7 +31,8 @@ class LoadedPlan:
     """Schema and reference findings, in the order of the file; when there are any, ``plan`` is None."""
     plan: Plan | None
     sop_texts: tuple[SopText, ...] = ()
-    """The SOP texts the plan points to (``sops[].text_file``), read from the plan's folder."""
+    """The SOP texts the plan points to (``sops[].text_file``) that could be read from the plan's
+    folder; kept when the plan has problems too, so a check report records the texts it read."""
 
 
 def read_source(file: str) -> LoadedSource:
@@ -56,12 +57,12 @@ def load_plan(source: LoadedSource) -> LoadedPlan:
     texts, text_problems = read_sop_texts(source)
     problems = (*schema_findings(source), *reference_findings(source), *text_problems)
     if problems:
-        return LoadedPlan(source, tuple(sorted(problems, key=Finding.sort_key)), None)
+        return LoadedPlan(source, tuple(sorted(problems, key=Finding.sort_key)), None, texts)
     plan = build_plan(source.data)
     oversized = tuple(finding_at(source, problem.path, "schema/too-large", Severity.ERROR, problem.message)
                       for problem in size_problems(plan))
     if oversized:
-        return LoadedPlan(source, oversized, None)
+        return LoadedPlan(source, oversized, None, texts)
     return LoadedPlan(source, (), plan, texts)
 
 

@@ -165,6 +165,13 @@ def decode_text(raw: bytes) -> str:
     return text
 
 
+def text_file_path(plan_file: str, written: str) -> str:
+    """The path of a text file named ``written`` in the plan ``plan_file``, as seen from where the
+    plan was named (``plans/plan.yaml`` and ``sops/A.md`` give ``plans/sops/A.md``): what a report
+    records, so a reader finds the file the check read."""
+    return os.path.join(os.path.dirname(plan_file), *PurePosixPath(written).parts)
+
+
 def text_for(texts: tuple[SopText, ...], sop_index: int) -> SopText | None:
     """The text read for the SOP at position ``sop_index`` of the plan's list, if any."""
     return next((text for text in texts if text.sop_index == sop_index), None)

@@ -63,6 +63,21 @@ def check_basis(result: CheckResult) -> str:
     return f"Checked {'as of ' + when if when else 'as of each plan' + chr(39) + 's own date'} under {result.policy.describe()}."
 
 
+SHORT_DIGEST = 12
+"""Hex digits of an SOP text's SHA-256 the reports people read show (JSON and SARIF give it all)."""
+
+
+def sop_text_digests(plan: PlanResult) -> str:
+    """"sops/A.md 0f1c1bdcb512…, sops/B.md f0f9fb05f52e…": the SOP texts the check read, for the
+    reports people read ("" when the plan names none); the digests identify the texts it saw."""
+    return ", ".join(f"{text.path} {text.sha256[:SHORT_DIGEST]}…" for text in plan.sop_texts)
+
+
+def sop_texts_line(plan: PlanResult) -> str:
+    """"SOP texts read (SHA-256): …", or "" when the plan names none."""
+    return f"SOP texts read (SHA-256): {sop_text_digests(plan)}" if plan.sop_texts else ""
+
+
 def as_of_basis(result: CheckResult) -> str:
     """Where the as-of date came from, for the machine-read reports: "given" (``--as-of``) or
     "plan_date" (each plan checked as of its own ``plan_date``)."""

@@ -24,7 +24,15 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, Mapping, Sequence
 
 from protolint import CAUTION
-from protolint.report._common import counts_phrase, json_safe, not_run_note, plan_counts, plural, sorted_findings
+from protolint.report._common import (
+    counts_phrase,
+    json_safe,
+    not_run_note,
+    plan_counts,
+    plural,
+    sop_text_digests,
+    sorted_findings,
+)
 from protolint.rules.sources import split_sources
 
 if TYPE_CHECKING:
@@ -244,6 +252,8 @@ class PlanView:
     source_note: str
     not_run: str = ""
     """How many rules a schema problem kept from running, and which (empty when all ran)."""
+    sop_texts: str = ""
+    """The SOP texts the check read, with their SHA-256 (empty when the plan names none)."""
 
 
 def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:
@@ -306,6 +316,7 @@ def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], poli
         chart_caption=caption,
         source_note=source_note,
         not_run=not_run_note(plan, with_ids=True) or "",
+        sop_texts=sop_text_digests(plan),
     )
 
 

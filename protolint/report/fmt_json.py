@@ -2,11 +2,14 @@
 
 The contract keys come first in a fixed order and are never renamed or dropped; the extra
 keys (``end_line``, ``end_column``, ``waiver_reason``, ``fingerprint``, ``as_of``,
-``rules_not_run``, ``not_run_reason``, the top-level ``policy`` and ``as_of``, ``caution``,
+``rules_not_run``, ``not_run_reason``, ``sop_texts``, the top-level ``policy`` and ``as_of``, ``caution``,
 ``execution_successful``, ``errors``) follow them. ``policy`` is ``{"file", "sha256",
 "disabled", "changed"}`` (``file`` "default" for the built-in policy); the top-level ``as_of``
 is the date every plan was checked as of, ``as_of_basis`` says whether it was given
 (``--as-of``) or is the plans' own ``plan_date``. Undefined numbers are ``null``. When the
+plan's ``sop_texts`` lists every SOP text the check read: ``{"sop", "text_file", "file",
+"sha256", "bytes"}`` (``text_file`` as the plan writes it, ``file`` the path beside the plan), so
+a CI artifact proves which texts were checked; one that could not be read is a finding. When the
 plans could not be checked (exit 2) the report is :func:`failure_document`:
 ``execution_successful`` false, the error in each plan's entry, ``policy`` and ``as_of`` null.
 """
@@ -21,6 +24,7 @@ from protolint.report._common import as_of_basis, fingerprints, json_safe
 
 if TYPE_CHECKING:
     from protolint.findings import CheckResult, Finding, PlanResult
+    from protolint.plan.sop_texts import SopText
     from protolint.pipeline import CheckFailure, InputProblem
     from protolint.rules.registry import RuleMeta
 
@@ -51,7 +55,15 @@ def _plan(plan: PlanResult) -> dict[str, Any]:
         "findings": [_finding(f, fp) for f, fp in zip(findings, fingerprints(findings))],
         "rules_not_run": list(plan.rules_not_run),
         "not_run_reason": plan.not_run_reason,
+        "sop_texts": [_sop_text(plan.file, text) for text in plan.sop_texts],
     }
+
+
+def _sop_text(plan_file: str, text: SopText) -> dict[str, Any]:
+    from protolint.plan.sop_texts import text_file_path
+
+    return {"sop": text.sop_id, "text_file": text.path, "file": text_file_path(plan_file, text.path),
+            "sha256": text.sha256, "bytes": text.size}
 
 
 def as_document(result: CheckResult) -> dict[str, Any]:
@@ -85,7 +97,7 @@ def failure_document(failure: CheckFailure) -> dict[str, Any]:
         problem = failure.problem_of(file)
         plans.append({
             "file": file, "sha256": None, "as_of": None, "findings": [], "rules_not_run": [],
-            "not_run_reason": problem.message if problem else NOT_CHECKED,
+            "not_run_reason": problem.message if problem else NOT_CHECKED, "sop_texts": [],
             "error": _problem(problem) if problem else None,
         })
     return {

@@ -18,6 +18,7 @@ from protolint.report._common import (
     plan_counts,
     plural,
     not_run_note,
+    sop_texts_line,
 )
 
 if TYPE_CHECKING:
@@ -122,6 +123,8 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
             meta += ("; " if meta else "") + f"dates checked as of {escape(plan.as_of)}"
         if meta:
             parts.append(meta)
+        if plan.sop_texts:
+            parts.append(escape(sop_texts_line(plan)))
         if active:
             parts.append(
                 _table(

@@ -9,6 +9,9 @@ Choices worth knowing:
   recomputed number changes.
 * Waived findings stay in the log with an external suppression carrying the waiver reason,
   so viewers show them as dismissed instead of losing the audit trail.
+* The run's ``artifacts`` list every plan with its SHA-256 and, after them, every SOP text a
+  plan points to that the check read (``hashes["sha-256"]``, ``length`` in bytes, the SOP and
+  the plan in its ``properties``), so the log proves which texts were checked.
 * Columns count Unicode code points (the loader's columns), hence ``columnKind``.
 * A run that could not check its plans (exit 2) is still a SARIF log (:func:`render_failure`):
   ``executionSuccessful: false``, exit code 2, and one error notification per input that could
@@ -201,6 +204,7 @@ def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any
                 _result(finding, fingerprint, rule_index[finding.rule], artifact_index[file_uri])
             )
 
+    _add_sop_texts(artifacts, artifact_index, result)
     run: dict[str, Any] = {
         "tool": {
             "driver": {
@@ -221,6 +225,24 @@ def as_document(result: CheckResult, rules: Sequence[RuleMeta]) -> dict[str, Any
     if as_of:
         run["properties"]["asOf"] = as_of
     return {"$schema": SARIF_SCHEMA, "version": "2.1.0", "runs": [run]}
+
+
+def _add_sop_texts(artifacts: list[dict[str, Any]], artifact_index: dict[str, int], result: CheckResult) -> None:
+    """Each SOP text a plan points to that was read, as an artifact with its hash (once per file)."""
+    from protolint.plan.sop_texts import text_file_path
+
+    for plan in result.plans:
+        for text in plan.sop_texts:
+            uri = artifact_uri(text_file_path(plan.file, text.path))
+            if uri in artifact_index:
+                continue
+            artifact_index[uri] = len(artifacts)
+            artifacts.append({
+                "location": {"uri": uri}, "length": text.size, "mimeType": "text/markdown", "encoding": "utf-8",
+                "hashes": {"sha-256": text.sha256},
+                "description": {"text": f"Full text of SOP {text.sop_id}"},
+                "properties": {"sop": text.sop_id, "textFile": text.path, "plan": artifact_uri(plan.file)},
+            })
 
 
 def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = False) -> str:

@@ -19,6 +19,7 @@ from protolint.report._common import (
     plan_counts,
     plural,
     not_run_note,
+    sop_texts_line,
 )
 
 if TYPE_CHECKING:
@@ -74,6 +75,9 @@ def render(result: CheckResult, rules: Sequence[RuleMeta], *, color: bool = Fals
     for plan in result.plans:
         lines = [_header(plan.file, plan_counts(plan), color)]
         lines.extend(finding_line(finding, color=color) for finding in plan.findings)
+        texts = sop_texts_line(plan)
+        if texts:
+            lines.append(textwrap.fill(one_line(texts), width=WRAP_WIDTH))
         note = not_run_note(plan)
         if note:
             lines.append(textwrap.fill(one_line(note), width=WRAP_WIDTH))

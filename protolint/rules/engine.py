@@ -42,7 +42,7 @@ def check_loaded(loaded: LoadedPlan, policy: Policy = DEFAULT_POLICY, as_of: dat
         return PlanResult(file=source.file, sha256=source.sha256, findings=tuple(problems), rules_run=ran,
                           as_of=as_of.isoformat() if as_of else None,
                           rules_not_run=tuple(sorted(r.meta.id for r in enabled if r.meta.id not in ran)),
-                          not_run_reason=NOT_RUN_REASON)
+                          not_run_reason=NOT_RUN_REASON, sop_texts=loaded.sop_texts)
 
     plan = loaded.plan
     as_of = as_of or plan.plan_date
@@ -61,7 +61,8 @@ def check_loaded(loaded: LoadedPlan, policy: Policy = DEFAULT_POLICY, as_of: dat
     severities = {r.meta.id: policy.severity(r.meta) for r in enabled}
     findings = apply_waivers(findings, plan, source, as_of, waivable, severities, known)
     return PlanResult(file=source.file, sha256=source.sha256, findings=tuple(findings),
-                      rules_run=tuple(sorted(r.meta.id for r in enabled)), as_of=as_of.isoformat())
+                      rules_run=tuple(sorted(r.meta.id for r in enabled)), as_of=as_of.isoformat(),
+                      sop_texts=loaded.sop_texts)
 
 
 def unknown_waiver_rules(source: LoadedSource, known: set[str]) -> list[Finding]:
