@@ -78,3 +78,19 @@ def run_protolint(*args: str | Path, cwd: Path | None = None, env: dict | None =
 def cli_process():
     """``run_protolint`` as a fixture."""
     return run_protolint
+
+
+@pytest.fixture(scope="session")
+def project_wheel(tmp_path_factory) -> Path:
+    """This checkout's wheel, built once per session (see tests/installs.py)."""
+    from tests.installs import build_wheel
+
+    return build_wheel(tmp_path_factory.mktemp("wheel"))
+
+
+@pytest.fixture(scope="session")
+def core_venv(tmp_path_factory, project_wheel: Path) -> Path:
+    """A core-only install of the wheel (what a pre-commit hook gets), built once per session."""
+    from tests.installs import make_core_venv
+
+    return make_core_venv(tmp_path_factory.mktemp("core"), project_wheel)

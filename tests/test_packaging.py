@@ -13,22 +13,10 @@ import pytest
 REPO = Path(__file__).resolve().parents[1]
 
 
-@pytest.fixture(scope="module")
-def wheel(tmp_path_factory) -> Path:
-    out = tmp_path_factory.mktemp("dist")
-    # Build from a copy of the sources so that no build/ or egg-info folder lands in the repo.
-    src = tmp_path_factory.mktemp("build") / "src"
-    src.mkdir()
-    skip = shutil.ignore_patterns("__pycache__", "*.pyc")
-    for folder in ("protolint", "schemas", "templates"):
-        shutil.copytree(REPO / folder, src / folder, ignore=skip)
-    for name in ("pyproject.toml", "setup.py", "MANIFEST.in", "README.md", "LICENSE"):
-        shutil.copy(REPO / name, src / name)
-    result = subprocess.run([sys.executable, "-m", "pip", "wheel", "--no-deps", "--no-build-isolation", "-w", str(out), str(src)],
-                            capture_output=True, text=True)
-    assert result.returncode == 0, result.stderr
-    [built] = out.glob("trial_protolint-*.whl")
-    return built
+@pytest.fixture
+def wheel(project_wheel: Path) -> Path:
+    """The session's wheel (tests/conftest.py), built from a copy of the sources."""
+    return project_wheel
 
 
 def test_wheel_carries_schemas_and_templates(wheel):

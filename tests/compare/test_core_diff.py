@@ -11,7 +11,7 @@ from pathlib import Path
 
 import pytest
 
-from tests.test_core_install import _run, core_venv  # noqa: F401  (the module-scoped venv fixture)
+from tests.installs import run_in_venv as _run
 from tests.conftest import write_demo_plan
 
 REPO = Path(__file__).resolve().parents[2]
@@ -24,7 +24,7 @@ def amended(tmp_path_factory) -> Path:
     return write_demo_plan(path, DEMO.read_text(encoding="utf-8").replace("interval_weeks: 52", "interval_weeks: 30"))
 
 
-def test_core_diff_text_json_and_markdown(core_venv: Path, amended: Path) -> None:  # noqa: F811
+def test_core_diff_text_json_and_markdown(core_venv: Path, amended: Path) -> None:
     protolint = str(core_venv / "bin" / "protolint")
     text = _run(core_venv, protolint, "diff", str(DEMO), str(amended), "--fail-on-new", "error")
     assert text.returncode == 0, text.stderr
@@ -35,7 +35,7 @@ def test_core_diff_text_json_and_markdown(core_venv: Path, amended: Path) -> Non
     assert markdown.returncode == 0 and "| changed | monitoring interval" in markdown.stdout, markdown.stderr
 
 
-def test_core_html_pages_need_no_extra(core_venv: Path, amended: Path, tmp_path: Path) -> None:  # noqa: F811
+def test_core_html_pages_need_no_extra(core_venv: Path, amended: Path, tmp_path: Path) -> None:
     protolint = str(core_venv / "bin" / "protolint")
     for args in (("diff", str(DEMO), str(amended)), ("check", str(DEMO), "--fail-on", "never")):
         out = tmp_path / f"{args[0]}.html"

@@ -7,10 +7,8 @@ and that the secret's content is nowhere in the document.
 
 from __future__ import annotations
 
-import http.server
 import io
 import re
-import threading
 from datetime import date
 from pathlib import Path
 
@@ -20,35 +18,16 @@ from protolint.plan import read_plan_file
 from protolint.render import KINDS, render
 from protolint.render.markdown import link_allowed, markdown_block, markdown_html
 from protolint.render.pdf import PdfRenderError, PdfSource, html_to_pdf
+from tests.leak_server import leak_server as recording_server
 
 FIXTURE = Path(__file__).resolve().parent / "fixtures" / "hostile.yaml"
 SECRET = "s3cret-token-7f3a9c"
 
 
-class _Recorder(http.server.BaseHTTPRequestHandler):
-    requests: list[str] = []
-
-    def do_GET(self) -> None:  # noqa: N802 - http.server's name
-        type(self).requests.append(self.path)
-        self.send_response(200)
-        self.send_header("Content-Type", "image/png")
-        self.end_headers()
-
-    def log_message(self, *args) -> None:  # keep test output quiet
-        pass
-
-
 @pytest.fixture
 def leak_server():
-    _Recorder.requests = []
-    server = http.server.ThreadingHTTPServer(("127.0.0.1", 0), _Recorder)
-    thread = threading.Thread(target=server.serve_forever, daemon=True)
-    thread.start()
-    try:
-        yield f"http://127.0.0.1:{server.server_address[1]}", _Recorder.requests
-    finally:
-        server.shutdown()
-        server.server_close()
+    with recording_server() as server:
+        yield server.url, server.requests
 
 
 @pytest.fixture

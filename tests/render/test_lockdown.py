@@ -24,7 +24,6 @@ import re
 import shutil
 import subprocess
 import sys
-import threading
 from contextlib import contextmanager
 from html.parser import HTMLParser
 from pathlib import Path
@@ -37,7 +36,7 @@ from protolint.plan import load_plan, read_plan_file
 from protolint.plan.source import load_source
 from protolint.render import FORMATS, KINDS, render
 from tests.plan_tree import leaves, parent_of
-from tests.render.test_hostile import _Recorder  # the recording HTTP server's handler
+from tests.leak_server import leak_server
 
 REPO = Path(__file__).resolve().parents[2]
 
@@ -119,25 +118,16 @@ def hostile_folder(tmp_path_factory: pytest.TempPathFactory):
     folder = root / "plan"
     (folder / "sops").mkdir(parents=True)
     (folder / "inside.txt").write_text(INSIDE_SECRET, encoding="utf-8")
-    _Recorder.requests = []
-    import http.server
-
-    server = http.server.ThreadingHTTPServer(("127.0.0.1", 0), _Recorder)
-    threading.Thread(target=server.serve_forever, daemon=True).start()
-    leak = f"http://127.0.0.1:{server.server_address[1]}"
-    payload = _PAYLOAD.format(file=outside.as_uri(), leak=leak, inside="inside.txt", folder=folder.as_uri())
-    for name in ("SOP-RAT-001.md", "SOP-IMG-002.md", "SOP-MON-003.md"):
-        (folder / "sops" / name).write_text(_SOP_TEXT.replace(_PAYLOAD, payload), encoding="utf-8")
-    short = _SHORT_PAYLOAD.format(file=outside.as_uri(), leak=leak)
-    text, count = hostile_plan_text((payload, short))
-    plan = folder / "plan.yaml"
-    plan.write_text(text, encoding="utf-8")
-    try:
+    with leak_server() as server:
+        payload = _PAYLOAD.format(file=outside.as_uri(), leak=server.url, inside="inside.txt", folder=folder.as_uri())
+        for name in ("SOP-RAT-001.md", "SOP-IMG-002.md", "SOP-MON-003.md"):
+            (folder / "sops" / name).write_text(_SOP_TEXT.replace(_PAYLOAD, payload), encoding="utf-8")
+        short = _SHORT_PAYLOAD.format(file=outside.as_uri(), leak=server.url)
+        text, count = hostile_plan_text((payload, short))
+        plan = folder / "plan.yaml"
+        plan.write_text(text, encoding="utf-8")
         yield {"plan": plan, "folder": folder, "outside": outside, "inside": folder / "inside.txt",
-               "requests": _Recorder.requests, "fields": count, "leak": leak}
-    finally:
-        server.shutdown()
-        server.server_close()
+               "requests": server.requests, "fields": count, "leak": server.url}
 
 
 @contextmanager
@@ -319,14 +309,20 @@ def test_whole_process_under_strace_opens_no_secret_and_connects_nowhere(hostile
     strace = shutil.which("strace")
     if strace is None:
         pytest.skip("strace is not installed")
-    probe = subprocess.run([strace, "-f", "-o", os.devnull, "true"], capture_output=True)
-    if probe.returncode != 0:
-        pytest.skip("strace cannot trace here (ptrace not permitted)")
+    # --seccomp-bpf stops the process only at the traced calls, not at every system call: the
+    # same trace at a fraction of the cost. Older strace, or a kernel without seccomp, traces
+    # without it.
+    fast = ["--seccomp-bpf"]
+    if subprocess.run([strace, *fast, "-f", "-o", os.devnull, "true"], capture_output=True).returncode != 0:
+        fast = []
+        probe = subprocess.run([strace, "-f", "-o", os.devnull, "true"], capture_output=True)
+        if probe.returncode != 0:
+            pytest.skip("strace cannot trace here (ptrace not permitted)")
     trace, out = tmp_path / "trace.txt", tmp_path / "out" / "binder.pdf"
     out.parent.mkdir()
     env = {**os.environ, "PYTHONPATH": str(REPO)}
     env.pop("SOURCE_DATE_EPOCH", None)
-    run = subprocess.run([strace, "-f", "-s", "4096", "-e", "trace=open,openat,openat2,connect,execve", "-o", str(trace),
+    run = subprocess.run([strace, *fast, "-f", "-s", "4096", "-e", "trace=open,openat,openat2,connect,execve", "-o", str(trace),
                           sys.executable, "-m", "protolint", "render", "binder", str(hostile_folder["plan"]),
                           "--output", str(out)], capture_output=True, text=True, env=env, timeout=600)
     assert run.returncode == 0, run.stderr
