@@ -20,11 +20,17 @@
   of the content; without ``libharfbuzz-subset0`` WeasyPrint subsets fonts with fontTools,
   which stamps the current time into each subset unless ``SOURCE_DATE_EPOCH`` is set, so it is
   set from the document date for the duration of the write and restored afterwards.
+* **Collector.** Layout allocates hundreds of thousands of short-lived boxes, and each full
+  collection of Python's cyclic garbage collector would also walk every object alive before
+  it (the modules, the plan, the HTML), none of which the layout can free; they are frozen
+  (``gc.freeze``) for the duration of the layout and unfrozen afterwards, which saves about
+  0.1 s of processor time on the demo binder and changes no byte of the output.
 """
 
 from __future__ import annotations
 
 import contextlib
+import gc
 import logging
 import os
 import threading
@@ -183,6 +189,16 @@ def _weasyprint_logs(progress: Callable[[str], None] | None) -> Iterator[_Collec
 
 
 @contextlib.contextmanager
+def _long_lived_objects_frozen() -> Iterator[None]:
+    """Keep the objects alive before the layout out of the collector's full passes during it."""
+    gc.freeze()
+    try:
+        yield
+    finally:
+        gc.unfreeze()
+
+
+@contextlib.contextmanager
 def _source_date_epoch(day: date) -> Iterator[None]:
     """Set SOURCE_DATE_EPOCH (when unset) for the duration of the block, then restore it."""
     with _ENV_LOCK:
@@ -214,7 +230,8 @@ def html_to_pdf(html: str, source: PdfSource, paper: str = "a4",
     fetcher = make_fetcher()
     font_config = FontConfiguration()
     stamp = _midnight(source.document_date)
-    with _weasyprint_logs(progress) as collector, _source_date_epoch(source.document_date):
+    with _weasyprint_logs(progress) as collector, _source_date_epoch(source.document_date), \
+            _long_lived_objects_frozen():
         try:
             stylesheet = CSS(string=font_css() + page_size_css(paper), base_url=ASSET_ORIGIN,
                              url_fetcher=fetcher, font_config=font_config)
