@@ -11,8 +11,10 @@
   machine and every glyph is embedded.
 * **PDF/A-3b.** Archivable (ISO 19005-3, level B: visual appearance preserved), and part 3 is
   the only PDF/A part that allows an arbitrary embedded file: we attach the exact plan YAML
-  that produced the document (``AFRelationship /Source``), so a filed binder carries its own
-  source. Level A (tagged) would double the size and time for no gain on a printed binder.
+  that produced the document, and the binder also each SOP text it prints (every one an
+  associated file of the document, ``AFRelationship /Source``, listed in the catalogue's
+  ``/AF``), so a filed binder carries its own sources. PDF/A-2 would refuse them (it allows
+  only embedded PDF/A files). Level A (tagged) would double the size and time for no gain on a printed binder.
 * **Warnings are errors.** Every WARNING or ERROR from the ``weasyprint`` logger (a refused
   fetch, a missing glyph, a CSS parse error) fails the render, except the one note that the
   system lacks HarfBuzz-Subset (an environment matter; see ``SOURCE_DATE_EPOCH`` below).
@@ -67,13 +69,24 @@ class PdfRenderError(ProtolintError):
 
 
 @dataclass(frozen=True)
+class PdfAttachment:
+    """A further text file embedded in the PDF (PDF/A-3 associated file, ``/Source``)."""
+
+    name: str
+    text: str
+    description: str
+
+
+@dataclass(frozen=True)
 class PdfSource:
-    """What the PDF needs besides the HTML."""
+    """What the PDF needs besides the HTML: its date, the file it was made from and any
+    further files whose content it prints (the binder's SOP texts), each embedded as is."""
 
     document_date: date
     attachment_name: str | None = None
     attachment_text: str | None = None
     attachment_description: str | None = None
+    further_attachments: tuple[PdfAttachment, ...] = ()
 
 
 @lru_cache(maxsize=1)
@@ -235,12 +248,14 @@ def html_to_pdf(html: str, source: PdfSource, paper: str = "a4",
         try:
             stylesheet = CSS(string=font_css() + page_size_css(paper), base_url=ASSET_ORIGIN,
                              url_fetcher=fetcher, font_config=font_config)
-            attachments = []
-            if source.attachment_text is not None:
-                attachments.append(Attachment(
-                    string=source.attachment_text, base_url=ASSET_ORIGIN, url_fetcher=fetcher,
-                    name=source.attachment_name, description=source.attachment_description,
-                    created=stamp, modified=stamp, relationship="Source"))
+            embedded = [] if source.attachment_text is None else [
+                PdfAttachment(source.attachment_name or "source", source.attachment_text,
+                              source.attachment_description or "")]
+            embedded.extend(source.further_attachments)
+            attachments = [Attachment(string=item.text, base_url=ASSET_ORIGIN, url_fetcher=fetcher,
+                                      name=item.name, description=item.description,
+                                      created=stamp, modified=stamp, relationship="Source")
+                           for item in embedded]
             document = HTML(string=html, base_url=ASSET_ORIGIN, url_fetcher=fetcher).render(
                 stylesheets=[stylesheet], font_config=font_config, pdf_variant=PDF_VARIANT)
             pdf = document.write_pdf(pdf_variant=PDF_VARIANT, attachments=attachments)
