@@ -92,8 +92,14 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
     assert loaded.plan is not None  # render_html has refused an invalid plan already
     day, _ = document_date(loaded.plan, as_of=check.given_as_of)
     name = PurePath(loaded.source.file).name
+    further = ()
+    if kind == "binder":
+        from protolint.render.binder import sop_text_attachments
+
+        further = sop_text_attachments(loaded.plan, loaded.sop_texts)
     source = PdfSource(document_date=day, attachment_name=name, attachment_text=loaded.source.text,
-                       attachment_description=f"The measurement plan this document was generated from (SHA-256 {loaded.source.sha256})")
+                       attachment_description=f"The measurement plan this document was generated from (SHA-256 {loaded.source.sha256})",
+                       further_attachments=further)
     if progress:
         progress("laying out pages")
     return html_to_pdf(html, source, paper, progress)

@@ -17,6 +17,7 @@ from protolint.plan.limits import MIN_SIGNOFF_ROWS  # the one definition: the si
 from protolint.plan.sop_texts import SopText, text_for
 from protolint.render.document import DocumentCheck, DocumentControl, Fact, IncludedFile, document_check, document_control, valid_plan
 from protolint.render.environment import number, words
+from protolint.render.pdf import PdfAttachment
 from protolint.render.phrases import join_or, sop_status_text
 
 
@@ -153,6 +154,20 @@ def included_sop_files(plan: Plan, texts: tuple[SopText, ...]) -> tuple[Included
         if text is not None:
             rows.append(IncludedFile(f"{sop.id} {sop.version} text", text.path, text.sha256))
     return tuple(rows)
+
+
+def sop_text_attachments(plan: Plan, texts: tuple[SopText, ...]) -> tuple[PdfAttachment, ...]:
+    """The SOP texts the binder prints, to embed in its PDF: each file once (two SOPs may share
+    one), under the path the plan writes (relative to the plan's folder, so names are unique),
+    in the plan's SOP order."""
+    attachments: dict[str, PdfAttachment] = {}
+    for index, sop in enumerate(plan.sops):
+        text = text_for(texts, index)
+        if text is not None and text.path not in attachments:
+            attachments[text.path] = PdfAttachment(
+                text.path, text.text, f"The full text of {sop.id} {sop.version} printed in this binder "
+                                      f"(SHA-256 {text.sha256})")
+    return tuple(attachments.values())
 
 
 @dataclass(frozen=True)

@@ -299,7 +299,12 @@ def _assert_inert_pdf(pdf: bytes, kind: str) -> None:
             if action is not None and "/URI" in action:
                 uris.append(str(action["/URI"]))
     assert all(link_allowed(uri) for uri in uris), uris
-    assert list(reader.attachments) == ["plan.yaml"]
+    # The plan, and in the binder each SOP text it prints (read before rendering, inside the
+    # plan's folder): never a file the hostile plan tried to reach.
+    sop_texts = ["sops/SOP-RAT-001.md", "sops/SOP-IMG-002.md", "sops/SOP-MON-003.md"] if kind == "binder" else []
+    assert list(reader.attachments) == ["plan.yaml", *sop_texts]
+    attached = b"".join(b"".join(contents) for contents in reader.attachments.values())
+    assert OUTSIDE_SECRET.encode() not in attached and INSIDE_SECRET.encode() not in attached
     if kind == "binder":
         assert text.count("SOP text with every kind of reference.") == 3
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import io
 import re
+from pathlib import Path
 
 import pytest
 
@@ -68,6 +69,30 @@ def test_binder_is_pdf_a_3b_with_the_plan_attached(demo_binder_pdf: bytes, demo_
     assert "/OutputIntents" in reader.trailer["/Root"]
     assert reader.attachments["plan.yaml"] == [demo_loaded.source.text.encode("utf-8")]
     assert reader.metadata.title == "NDS-HD-301 · SOP binder"
+
+
+def test_binder_embeds_each_sop_text_it_prints_as_an_associated_source_file(demo_binder_pdf: bytes, demo_loaded) -> None:
+    """PDF/A-3 associated files: the plan first, then every SOP text byte for byte under the
+    path the plan writes, each a /Filespec with /AFRelationship /Source in the catalogue's /AF."""
+    reader = _reader(demo_binder_pdf)
+    texts = demo_loaded.sop_texts
+    assert [t.path for t in texts] == ["sops/SOP-RAT-001.md", "sops/SOP-IMG-002.md", "sops/SOP-MON-003.md"]
+    assert list(reader.attachments) == ["plan.yaml", *(t.path for t in texts)]
+    folder = Path(demo_loaded.source.file).parent
+    for text in texts:
+        assert reader.attachments[text.path] == [(folder / text.path).read_bytes()]
+    specs = {}
+    for ref in reader.trailer["/Root"]["/AF"]:
+        spec = ref.get_object()
+        specs[str(spec["/F"])] = spec
+    assert set(specs) == {"plan.yaml", *(t.path for t in texts)}
+    assert all(spec["/AFRelationship"] == "/Source" for spec in specs.values())
+    assert texts[0].sha256 in str(specs[texts[0].path]["/Desc"])
+
+
+def test_only_the_binder_embeds_sop_texts(demo_loaded) -> None:
+    reader = _reader(render("manual", "pdf", demo_loaded))
+    assert list(reader.attachments) == ["plan.yaml"]
 
 
 def test_binder_fonts_are_the_packaged_ones_embedded(demo_binder_pdf: bytes) -> None:
