@@ -48,6 +48,7 @@ _MAX_DIGITS = 30  # longer digit strings are refused before int() is asked to co
 _PLAIN = "tag:protolint:plain"
 _CORE = "tag:yaml.org,2002:"
 _ALLOWED_TAGS = {_CORE + t for t in ("str", "int", "float", "bool", "null", "seq", "map")}
+_STR, _SEQ, _MAP = _CORE + "str", _CORE + "seq", _CORE + "map"
 
 # YAML 1.2 core schema (https://yaml.org/spec/1.2.2/#1032-tag-resolution), minus the
 # leading-zero integers described in the module docstring.
@@ -62,9 +63,12 @@ _SPECIAL_FLOAT = re.compile(r"^(?:[-+]?\.(?:inf|Inf|INF)|\.(?:nan|NaN|NAN))$")
 # The first characters any of the patterns above can start with.
 _MAY_BE_TYPED = frozenset("~nNtTfF0123456789+-.")
 
-# An anchor property (&name) follows a separator or a flow indicator; '&' inside words or
-# followed by a space ("R&D", "Q & A") is text. A false match only costs the expansion check.
-_ANCHOR = re.compile(r"(?:^|[\s\[\]{},])&[^\s\[\]{},]", re.MULTILINE)
+# An anchor property (&name) follows a separator, a flow indicator, or the colon after a
+# quoted key in a flow mapping ({"a":&x 1}); '&' inside words or followed by a space ("R&D",
+# "Q & A") is text. A false match only costs the expansion check.
+# Written to start with the '&' itself (the separator is a look-behind), so the search skips
+# from one '&' to the next instead of trying the alternatives at every character of the plan.
+_ANCHOR = re.compile(r"&(?<![^\s\[\]{},:]&)[^\s\[\]{},]")
 
 _BOMS = {
     b"\xff\xfe\x00\x00": "UTF-32",
@@ -90,19 +94,28 @@ class Span:
     end_column: int
 
 
-@dataclass(frozen=True)
 class SourceMap:
-    """Where each data path of a plan was written."""
+    """Where each data path of a plan was written.
 
-    file: str
-    spans: dict[Path, Span]
+    The composed YAML node tree is kept, and a path is looked up in it only when something is
+    reported there: most plans a CI job checks have no finding, and a span made for every node
+    of every plan was a third of the time ``check`` spent loading. A path is found by walking
+    the nodes it names (a mapping's keys are indexed the first time the mapping is walked), so
+    a lookup costs the depth of the path. Compared by identity.
+    """
+
+    __slots__ = ("file", "_root", "_keys", "_spans")
+
+    def __init__(self, file: str, root: yaml.Node | None) -> None:
+        self.file = file
+        self._root = root
+        self._keys: dict[int, dict[str, tuple[yaml.Node, yaml.Node]]] = {}
+        self._spans: dict[Path, Span] | None = None
 
     def span(self, path: Path) -> Span:
         """The span of ``path``, or of its nearest ancestor that was written in the file."""
-        probe = tuple(path)
-        while probe not in self.spans and probe:
-            probe = probe[:-1]
-        return self.spans.get(probe) or Span(1, 1, 1, 1, 1, 1)
+        written = self._written(path)
+        return _span_of(*written) if written else Span(1, 1, 1, 1, 1, 1)
 
     def locate(self, path: Path, *, at_key: bool = False) -> Location:
         """Where a finding at ``path`` is reported: its value (with the value's end), or its key
@@ -111,6 +124,60 @@ class SourceMap:
         if at_key:
             return Location(span.key_line, span.key_column)
         return Location(span.value_line, span.value_column, span.end_line, span.end_column)
+
+    @property
+    def spans(self) -> dict[Path, Span]:
+        """The span of every data path written in the file (made on first use, for tools and tests)."""
+        if self._spans is None:
+            spans: dict[Path, Span] = {}
+            if self._root is not None:
+                _all_spans(self._root, (), spans)
+            self._spans = spans
+        return self._spans
+
+    def _written(self, path: Path) -> tuple[yaml.Node | None, yaml.Node] | None:
+        """(key node or None for a list item, value node) of the deepest written prefix of ``path``."""
+        node = self._root
+        found: tuple[yaml.Node | None, yaml.Node] | None = None
+        for part in path:
+            if isinstance(node, yaml.MappingNode) and isinstance(part, str):
+                pair = self._keys_of(node).get(part)
+                if pair is None:
+                    break
+                found = pair
+            elif isinstance(node, yaml.SequenceNode) and isinstance(part, int) and 0 <= part < len(node.value):
+                found = (None, node.value[part])
+            else:
+                break
+            node = found[1]
+        return found
+
+    def _keys_of(self, node: yaml.MappingNode) -> dict[str, tuple[yaml.Node, yaml.Node]]:
+        keys = self._keys.get(id(node))  # nodes are kept alive by the tree, so their ids are stable
+        if keys is None:
+            keys = self._keys[id(node)] = {key.value: (key, value) for key, value in node.value}
+        return keys
+
+
+def _span_of(key: yaml.Node | None, value: yaml.Node) -> Span:
+    key = key or value
+    # A block mapping or list starts on the line after its key; a finding about the whole
+    # section belongs on the key's line, not on its first entry.
+    block = isinstance(value, yaml.CollectionNode) and not value.flow_style
+    start = key.start_mark if block else value.start_mark
+    return Span(key.start_mark.line + 1, key.start_mark.column + 1, start.line + 1, start.column + 1,
+                value.end_mark.line + 1, value.end_mark.column + 1)
+
+
+def _all_spans(node: yaml.Node, path: Path, spans: dict[Path, Span]) -> None:
+    if isinstance(node, yaml.SequenceNode):
+        for index, child in enumerate(node.value):
+            spans[path + (index,)] = _span_of(None, child)
+            _all_spans(child, path + (index,), spans)
+    elif isinstance(node, yaml.MappingNode):
+        for key, child in node.value:
+            spans[path + (key.value,)] = _span_of(key, child)
+            _all_spans(child, path + (key.value,), spans)
 
 
 @dataclass(frozen=True)
@@ -124,14 +191,19 @@ class LoadedSource:
 
 def _plain_tag_loader() -> type:
     base = getattr(yaml, "CSafeLoader", yaml.SafeLoader)
+    scalar_node = yaml.ScalarNode
+    default_tags = {yaml.ScalarNode: _STR, yaml.SequenceNode: _SEQ, yaml.MappingNode: _MAP}
 
     class PlainTaggingLoader(base):  # type: ignore[misc, valid-type]
         """Tags every plain scalar with a private tag so that we, not PyYAML, type it."""
 
         def resolve(self, kind, value, implicit):  # noqa: ANN001 - PyYAML's signature
-            if kind is yaml.ScalarNode and implicit[0]:
+            # Called for every node without an explicit tag. What PyYAML's own resolver would
+            # answer for anything but a plain scalar (it has no path resolvers here), without
+            # its lookups: a quarter of the time spent composing went to them.
+            if kind is scalar_node and implicit[0]:
                 return _PLAIN
-            return super().resolve(kind, value, implicit)
+            return default_tags[kind]
 
     return PlainTaggingLoader
 
@@ -195,15 +267,14 @@ def load_source(raw: bytes, file: str) -> LoadedSource:
         raise LocatedError(file, 0, 0, "the file is empty; a plan is a YAML mapping of keys to values")
     if _ANCHOR.search(text):  # aliases need an anchor; without one no node can be shared
         _check_expansion(root, file)
-    converter = _Converter(file)
-    data = converter.convert(root, (), depth=0, ancestors=())
+    data = _to_data(root, file)
     if not isinstance(data, dict):
         raise LocatedError(file, root.start_mark.line + 1, root.start_mark.column + 1,
                            "a plan must be a YAML mapping (key: value pairs) at the top level")
     return LoadedSource(
         file=file,
         data=data,
-        source_map=SourceMap(file, converter.spans),
+        source_map=SourceMap(file, root),
         sha256=hashlib.sha256(raw).hexdigest(),
         text=text,
     )
@@ -304,129 +375,144 @@ def _check_expansion(root: yaml.Node, file: str) -> None:
     size(root, 0)
 
 
-class _Converter:
-    def __init__(self, file: str) -> None:
-        self.file = file
-        self.spans: dict[Path, Span] = {}
+def _to_data(root: yaml.Node, file: str) -> Any:
+    """The plain data of a composed document, typed the YAML 1.2 way (module docstring).
 
-    def fail(self, node: yaml.Node, message: str) -> LocatedError:
-        return LocatedError(self.file, node.start_mark.line + 1, node.start_mark.column + 1, message)
+    One pass over the nodes, written as a closure because it runs for every node of every plan:
+    the common cases (a plain scalar that is text, a mapping or list without a tag) take the
+    fewest steps, everything else goes to the helpers below, which also raise the errors.
+    Cycles and alias expansion were refused before (:func:`_check_expansion`); the count of
+    nodes visited is a second bound that holds even if an anchor was missed, and a cycle would
+    end at the depth limit.
+    """
+    visited = 0
+    scalar_node, sequence_node, mapping_node = yaml.ScalarNode, yaml.SequenceNode, yaml.MappingNode
+    may_be_typed = _MAY_BE_TYPED
 
-    def record(self, path: Path, key: yaml.Node | None, value: yaml.Node) -> None:
-        if path in self.spans:  # an alias expanded again: keep the first place it was written
-            return
-        key = key or value
-        # A block mapping or list starts on the line after its key; a finding about the whole
-        # section belongs on the key's line, not on its first entry.
-        block = isinstance(value, yaml.CollectionNode) and not value.flow_style
-        start = key.start_mark if block else value.start_mark
-        self.spans[path] = Span(
-            key.start_mark.line + 1, key.start_mark.column + 1,
-            start.line + 1, start.column + 1,
-            value.end_mark.line + 1, value.end_mark.column + 1,
-        )
-
-    def convert(self, node: yaml.Node, path: Path, depth: int, ancestors: tuple[int, ...]) -> Any:
+    def value_of(node: yaml.Node, depth: int) -> Any:
+        nonlocal visited
+        visited += 1
+        if visited > MAX_NODES:
+            raise _fail(file, node, f"the document holds more than {MAX_NODES} values (counting every use of an alias)")
         if depth > MAX_DEPTH:
-            raise self.fail(node, f"nesting is deeper than {MAX_DEPTH} levels")
-        if id(node) in ancestors:
-            raise self.fail(node, "an alias refers to a node that contains it (a cycle)")
-        if node.tag not in _ALLOWED_TAGS and node.tag != _PLAIN:
-            raise self.fail(node, f"the tag {_short_tag(node.tag)!r} is not allowed; plans use plain YAML values only")
-        if isinstance(node, yaml.ScalarNode):
-            if node.tag in (_CORE + "seq", _CORE + "map"):
-                kind = "a list" if node.tag.endswith("seq") else "a mapping"
-                raise self.fail(node, f"the tag {_short_tag(node.tag)!r} asks for {kind}, but a single value is written here")
-            return self.scalar(node)
-        inner = ancestors + (id(node),)
-        if isinstance(node, yaml.SequenceNode):
-            if node.tag != _CORE + "seq":
-                raise self.fail(node, f"the tag {_short_tag(node.tag)!r} does not fit a list")
-            items = []
-            for index, child in enumerate(node.value):
-                self.record(path + (index,), None, child)
-                items.append(self.convert(child, path + (index,), depth + 1, inner))
-            return items
-        if node.tag != _CORE + "map":
-            raise self.fail(node, f"the tag {_short_tag(node.tag)!r} does not fit a mapping")
-        mapping: dict[str, Any] = {}
-        first_seen: dict[str, yaml.Node] = {}
-        for key_node, value_node in node.value:
-            if not isinstance(key_node, yaml.ScalarNode):
-                raise self.fail(key_node, "a key must be a plain word, not a list or mapping")
-            key = key_node.value
-            control = CONTROL_CHARACTERS.search(key) if key_node.style == '"' else None
-            if control:
-                raise self.fail(key_node, f"the key contains the control character U+{ord(control.group(0)):04X} "
-                                          "(written as an escape); remove it")
-            if key == "<<" and key_node.tag == _PLAIN:
-                raise self.fail(key_node, "merge keys ('<<') are not supported; write the keys out")
-            if key in first_seen:
-                first = first_seen[key].start_mark
-                raise self.fail(key_node, f"duplicate key {key!r} (first written at line {first.line + 1}, column {first.column + 1})")
-            first_seen[key] = key_node
-            self.record(path + (key,), key_node, value_node)
-            mapping[key] = self.convert(value_node, path + (key,), depth + 1, inner)
-        return mapping
-
-    def scalar(self, node: yaml.ScalarNode) -> Any:
-        value = node.value
+            raise _fail(file, node, f"nesting is deeper than {MAX_DEPTH} levels")
+        kind = node.__class__
         tag = node.tag
-        # Only a double-quoted scalar can hold an escape; the reader refuses raw control characters.
-        control = CONTROL_CHARACTERS.search(value) if node.style == '"' else None
-        if control:
-            # Written as an escape in a quoted value ("\e[31m", "\x07"): the raw character is
-            # refused by the reader, and the escaped one would reach documents and terminals.
-            raise self.fail(node, f"the value contains the control character U+{ord(control.group(0)):04X} "
-                                  "(written as an escape); remove it")
-        if tag == _CORE + "str":
-            return value
-        if tag == _PLAIN:
-            return self.typed_plain(node, value)
-        # An explicit core tag: the text must fit it.
-        typed: Any = self.typed_plain(node, value)
-        expected: dict[str, tuple[type, ...]] = {"int": (int,), "float": (int, float), "bool": (bool,), "null": (type(None),)}
-        kinds = expected[tag[len(_CORE):]]
-        fits = isinstance(typed, kinds) and not (isinstance(typed, bool) and bool not in kinds)
-        if not fits:
-            raise self.fail(node, f"{_shown(value)} is not a valid {tag[len(_CORE):]}")
-        return float(typed) if tag.endswith("float") else typed
+        if kind is scalar_node:
+            if tag == _PLAIN:
+                text = node.value
+                if text and text[0] not in may_be_typed:
+                    return text  # no typing pattern can match: most plan values are text
+                return _typed_plain(file, node, text)
+            return _tagged_scalar(file, node)
+        inner = depth + 1
+        if kind is mapping_node and tag == _MAP:
+            mapping: dict[str, Any] = {}
+            for key_node, value_node in node.value:
+                if key_node.__class__ is not scalar_node:
+                    raise _fail(file, key_node, "a key must be a plain word, not a list or mapping")
+                key = key_node.value
+                if key_node.style == '"' or key in mapping or (key == "<<" and key_node.tag == _PLAIN):
+                    _check_key(file, node, key_node, key in mapping)
+                mapping[key] = value_of(value_node, inner)
+            return mapping
+        if kind is sequence_node and tag == _SEQ:
+            return [value_of(child, inner) for child in node.value]
+        raise _wrong_collection_tag(file, node)
 
-    def typed_plain(self, node: yaml.ScalarNode, value: str) -> Any:
-        if value and value[0] not in _MAY_BE_TYPED:
-            return value  # no pattern below can match: most plan values are text
-        if _NULL.match(value):
-            return None
-        if _TRUE.match(value):
-            return True
-        if _FALSE.match(value):
-            return False
-        for pattern, start, base in ((_INT10, 0, 10), (_INT8, 2, 8), (_INT16, 2, 16)):
-            if pattern.match(value):
-                return self.integer(node, value, start, base)
-        if _FLOAT.match(value):
-            return self.real(node, value)
-        if _SPECIAL_FLOAT.match(value):
-            raise self.fail(node, f"{value!r} (infinity or not-a-number) is not allowed in a plan")
+    return value_of(root, 0)
+
+
+def _fail(file: str, node: yaml.Node, message: str) -> LocatedError:
+    return LocatedError(file, node.start_mark.line + 1, node.start_mark.column + 1, message)
+
+
+def _check_key(file: str, mapping: yaml.MappingNode, key_node: yaml.ScalarNode, repeated: bool) -> None:
+    """Refuse a key that holds an escaped control character, a merge key and a repeated key."""
+    key = key_node.value
+    control = CONTROL_CHARACTERS.search(key) if key_node.style == '"' else None
+    if control:
+        raise _fail(file, key_node, f"the key contains the control character U+{ord(control.group(0)):04X} "
+                                    "(written as an escape); remove it")
+    if key == "<<" and key_node.tag == _PLAIN:
+        raise _fail(file, key_node, "merge keys ('<<') are not supported; write the keys out")
+    if repeated:
+        first = next(other for other, _ in mapping.value if other.__class__ is yaml.ScalarNode and other.value == key).start_mark
+        raise _fail(file, key_node, f"duplicate key {key!r} (first written at line {first.line + 1}, column {first.column + 1})")
+
+
+def _wrong_collection_tag(file: str, node: yaml.CollectionNode) -> LocatedError:
+    if node.tag not in _ALLOWED_TAGS and node.tag != _PLAIN:
+        return _fail(file, node, f"the tag {_short_tag(node.tag)!r} is not allowed; plans use plain YAML values only")
+    what = "a list" if isinstance(node, yaml.SequenceNode) else "a mapping"
+    return _fail(file, node, f"the tag {_short_tag(node.tag)!r} does not fit {what}")
+
+
+def _tagged_scalar(file: str, node: yaml.ScalarNode) -> Any:
+    """A scalar that is quoted, a block of text, or written with an explicit tag."""
+    value = node.value
+    tag = node.tag
+    if tag not in _ALLOWED_TAGS:
+        raise _fail(file, node, f"the tag {_short_tag(tag)!r} is not allowed; plans use plain YAML values only")
+    if tag in (_SEQ, _MAP):
+        kind = "a list" if tag == _SEQ else "a mapping"
+        raise _fail(file, node, f"the tag {_short_tag(tag)!r} asks for {kind}, but a single value is written here")
+    # Only a double-quoted scalar can hold an escape; the reader refuses raw control characters.
+    control = CONTROL_CHARACTERS.search(value) if node.style == '"' else None
+    if control:
+        # Written as an escape in a quoted value ("\e[31m", "\x07"): the raw character is
+        # refused by the reader, and the escaped one would reach documents and terminals.
+        raise _fail(file, node, f"the value contains the control character U+{ord(control.group(0)):04X} "
+                                "(written as an escape); remove it")
+    if tag == _STR:
         return value
+    # An explicit core tag: the text must fit it.
+    typed: Any = _typed_plain(file, node, value)
+    expected: dict[str, tuple[type, ...]] = {"int": (int,), "float": (int, float), "bool": (bool,), "null": (type(None),)}
+    kinds = expected[tag[len(_CORE):]]
+    fits = isinstance(typed, kinds) and not (isinstance(typed, bool) and bool not in kinds)
+    if not fits:
+        raise _fail(file, node, f"{_shown(value)} is not a valid {tag[len(_CORE):]}")
+    return float(typed) if tag.endswith("float") else typed
 
-    def integer(self, node: yaml.ScalarNode, value: str, start: int, base: int) -> int:
-        # Checked on the digits first: int() refuses more than 4,300 decimal digits, and a
-        # huge hexadecimal number would only overflow later, deep inside a rule.
-        digits = value[start:].lstrip("+-").lstrip("0")
-        number = int(value[start:], base) if len(digits) <= _MAX_DIGITS else None
-        if number is None or abs(number) > MAX_INTEGER:
-            raise self.fail(node, f"the number {_shown(value)} is too large; plans hold whole numbers "
-                                  f"up to {MAX_INTEGER:,}")
-        return number
 
-    def real(self, node: yaml.ScalarNode, value: str) -> float:
-        number = float(value)
-        if math.isinf(number):
-            raise self.fail(node, f"the number {_shown(value)} is too large to be held (it would be infinity)")
-        if number == 0 and any(ch in "123456789" for ch in value.split("e")[0].split("E")[0]):
-            raise self.fail(node, f"the number {_shown(value)} is too small to be held (it would be 0)")
-        return number
+def _typed_plain(file: str, node: yaml.ScalarNode, value: str) -> Any:
+    if value and value[0] not in _MAY_BE_TYPED:
+        return value
+    if _NULL.match(value):
+        return None
+    if _TRUE.match(value):
+        return True
+    if _FALSE.match(value):
+        return False
+    for pattern, start, base in ((_INT10, 0, 10), (_INT8, 2, 8), (_INT16, 2, 16)):
+        if pattern.match(value):
+            return _integer(file, node, value, start, base)
+    if _FLOAT.match(value):
+        return _real(file, node, value)
+    if _SPECIAL_FLOAT.match(value):
+        raise _fail(file, node, f"{value!r} (infinity or not-a-number) is not allowed in a plan")
+    return value
+
+
+def _integer(file: str, node: yaml.ScalarNode, value: str, start: int, base: int) -> int:
+    # Checked on the digits first: int() refuses more than 4,300 decimal digits, and a
+    # huge hexadecimal number would only overflow later, deep inside a rule.
+    digits = value[start:].lstrip("+-").lstrip("0")
+    number = int(value[start:], base) if len(digits) <= _MAX_DIGITS else None
+    if number is None or abs(number) > MAX_INTEGER:
+        raise _fail(file, node, f"the number {_shown(value)} is too large; plans hold whole numbers "
+                                f"up to {MAX_INTEGER:,}")
+    return number
+
+
+def _real(file: str, node: yaml.ScalarNode, value: str) -> float:
+    number = float(value)
+    if math.isinf(number):
+        raise _fail(file, node, f"the number {_shown(value)} is too large to be held (it would be infinity)")
+    if number == 0 and any(ch in "123456789" for ch in value.split("e")[0].split("E")[0]):
+        raise _fail(file, node, f"the number {_shown(value)} is too small to be held (it would be 0)")
+    return number
 
 
 def _short_tag(tag: str) -> str:

@@ -99,6 +99,20 @@ def test_billion_laughs_is_refused_quickly():
     assert "expands to more than" in error.reason
 
 
+def test_an_anchor_right_after_a_quoted_key_in_flow_style_is_still_bounded():
+    # {"a":&x ...}: in a flow mapping the value may follow a quoted key's colon with no space.
+    lines = ['{"a":&a ["lol","lol","lol","lol","lol","lol","lol","lol","lol"],']
+    previous = "a"
+    for name in "bcdefghij":
+        lines.append(f'"{name}":&{name} [' + ",".join([f"*{previous}"] * 9) + "],")
+        previous = name
+    started = time.perf_counter()
+    error = error_of("\n".join(lines) + '"end": 1}\n')
+    assert time.perf_counter() - started < 0.5
+    assert "expands to more than" in error.reason
+    assert "cycle" in error_of('{"a":&x [1, *x]}\n').reason
+
+
 def test_small_aliases_are_allowed():
     assert load("base: &b {x: 1}\ncopy: *b\n").data == {"base": {"x": 1}, "copy": {"x": 1}}
 
