@@ -27,8 +27,11 @@ def command(old: str, new: str, fmt: str, output: str | None, fail_on_new: str |
     Entries are matched by their id, so reordering SOPs, visits or rater pools is no change.
     Each change is given with its JSON Pointer in NEW, its line in both files and a sentence;
     the findings of both versions, checked under --policy and --as-of as `protolint check`
-    would, are split into introduced, resolved and unchanged. The JSON
-    format adds an RFC 6902 patch that turns OLD's data into NEW's.
+    would, are split into introduced, resolved and unchanged. The SOP texts
+    the plans name (sops[].text_file) are compared by SHA-256: each one added,
+    removed, changed (with a unified diff, at most 300 lines) or unreadable
+    is listed. The JSON format adds an RFC 6902 patch that turns OLD's data
+    into NEW's.
 
     Exit code 0, or 1 with --fail-on-new when NEW introduces a finding at or above that
     level; 2 when a file cannot be read.
@@ -36,7 +39,8 @@ def command(old: str, new: str, fmt: str, output: str | None, fail_on_new: str |
     \b
     Examples:
       protolint diff plan-v1.yaml plan.yaml
-      git show origin/main:plan.yaml > base.yaml && protolint diff base.yaml plan.yaml --fail-on-new error
+      mkdir base && git archive origin/main plans | tar -x -C base   # the plan with its SOP texts
+      protolint diff base/plans/plan.yaml plans/plan.yaml --fail-on-new error
       protolint diff old.yaml new.yaml --format json --output amendment.json
     """
     from protolint.commands._shared import emit

@@ -213,3 +213,34 @@ def test_every_format_reports_an_unreadable_text(cli, tmp_path):
     markdown = cli("diff", old, new, "--format", "markdown").output
     assert "| unreadable | text of SOP SOP-IMG-002 could not be read, so it was not compared |" in markdown
     assert "- " + located.replace("_", "\\_") in markdown
+
+
+def test_the_readme_ci_recipe_compares_a_base_exported_with_its_texts(tmp_path, cli_process):
+    """README's recipe exports the target branch's plan folder with `git archive`: the base then
+    loads with its SOP texts, so an edited text is the one difference and no finding is new.
+    A lone copy of the plan file (``git show branch:plan.yaml``) has no texts beside it."""
+    import shutil
+    import subprocess
+
+    if shutil.which("git") is None:
+        pytest.skip("git is not installed")
+    repo = tmp_path / "repo"
+    repo.mkdir()
+    version(repo, "plans")   # repo/plans/plan.yaml and repo/plans/sops/
+    git = ["git", "-C", str(repo), "-c", "user.name=Test", "-c", "user.email=test@example.org"]
+    for args in (["init", "-q"], ["add", "-A"], ["commit", "-q", "-m", "base"]):
+        subprocess.run(git + args, check=True, capture_output=True)
+    (repo / "plans" / IMG).write_text(with_added_line(), encoding="utf-8")
+    base = tmp_path / "base"
+    base.mkdir()
+    archive = subprocess.run(git + ["archive", "HEAD", "plans"], check=True, capture_output=True).stdout
+    subprocess.run(["tar", "-x", "-C", str(base)], input=archive, check=True)
+    run = cli_process("diff", base / "plans" / "plan.yaml", repo / "plans" / "plan.yaml", "--fail-on-new", "error",
+                      "--format", "json")
+    report = json.loads(run.stdout)
+    assert run.returncode == 0 and report["counts"]["introduced"] == 0 and report["counts"]["unchanged"] > 20
+    assert [(t["kind"], t["sop"]) for t in report["sop_texts"]] == [("changed", "SOP-IMG-002")]
+    lone = tmp_path / "lone.yaml"
+    lone.write_bytes(subprocess.run(git + ["show", "HEAD:plans/plan.yaml"], check=True, capture_output=True).stdout)
+    report = json.loads(cli_process("diff", lone, repo / "plans" / "plan.yaml", "--format", "json").stdout)
+    assert report["sop_text_counts"]["unreadable"] == 3 and report["counts"]["introduced"] > 20
