@@ -882,11 +882,11 @@ def analyse(data: RatingData, loaded: LoadedPlan | None, options: Options) -> Dr
         sd, df = _pooled_sd([r.deviation for r in groups[key].certification] for key in chosen)
         if not df or not sd > 0:
             who = "certified rater" if passed else "rater"
-            reason = (f"no {who} has more than one certification rating" if not df else
-                      f"each {who}'s certification ratings deviate from the reference by the same amount "
-                      f"(pooled within-rater SD 0 on {df} degrees of freedom)")
+            why = (f"no {who} has more than one certification rating" if not df else
+                   f"each {who}'s certification ratings deviate from the reference by the same amount "
+                   f"(pooled within-rater SD 0 on {df} degrees of freedom)")
             raise ProtolintError(f"drift: cannot estimate the SD that standardises the deviations of "
-                                 f"{instrument_words(instrument)}: {reason}; give --scale-sd")
+                                 f"{instrument_words(instrument)}: {why}; give --scale-sd")
         scale_sd[instrument] = (sd, f"pooled within-rater SD of certification deviations, {len(chosen)} "
                                     f"{'certified ' if passed else ''}{'rater' if len(chosen) == 1 else 'raters'}, {df} df")
 

@@ -389,7 +389,7 @@ def _to_data(root: yaml.Node, file: str) -> Any:
     scalar_node, sequence_node, mapping_node = yaml.ScalarNode, yaml.SequenceNode, yaml.MappingNode
     may_be_typed = _MAY_BE_TYPED
 
-    def value_of(node: yaml.Node, depth: int) -> Any:
+    def value_of(node: Any, depth: int) -> Any:  # a yaml.Node; its class is tested by identity below
         nonlocal visited
         visited += 1
         if visited > MAX_NODES:

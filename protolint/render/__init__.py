@@ -20,6 +20,7 @@ from protolint.plan import LoadedPlan
 
 if TYPE_CHECKING:
     from protolint.render.document import DocumentCheck
+    from protolint.render.pdf import PdfAttachment
 
 KINDS = ("manual", "checklist", "binder")
 FORMATS = ("pdf", "html", "markdown")
@@ -92,7 +93,7 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
     assert loaded.plan is not None  # render_html has refused an invalid plan already
     day, _ = document_date(loaded.plan, as_of=check.given_as_of)
     name = PurePath(loaded.source.file).name
-    further = ()
+    further: tuple[PdfAttachment, ...] = ()
     if kind == "binder":
         from protolint.render.binder import sop_text_attachments
 

@@ -117,7 +117,7 @@ def test_a_text_that_cannot_be_read_is_reported_located_and_not_compared(tmp_pat
     )
     run = cli_process("diff", old, new)
     assert run.returncode == 0 and "Traceback" not in run.stderr and run.stderr == ""
-    assert f"  unreadable text of SOP SOP-IMG-002 could not be read, so it was not compared" in run.stdout
+    assert "  unreadable text of SOP SOP-IMG-002 could not be read, so it was not compared" in run.stdout
     assert change.problems[1] in run.stdout and "1 not compared (unreadable)" in run.stdout
 
 
@@ -185,7 +185,7 @@ def test_markdown_format_keeps_the_diff_inside_its_fence(cli, hostile_pair):
     old, new = hostile_pair
     markdown = cli("diff", old, new, "--format", "markdown").output
     assert "## Changes in the SOP texts" in markdown
-    assert f"| changed | text of SOP SOP-IMG-002 (sops/SOP-IMG-002.md) changed: 2 lines added, 0 removed |" in markdown
+    assert "| changed | text of SOP SOP-IMG-002 (sops/SOP-IMG-002.md) changed: 2 lines added, 0 removed |" in markdown
     # The text holds a run of four backticks: the fence is five long, so no line of the text closes it.
     assert "\n`````diff\n" in markdown and f"\n+{HOSTILE}\n`````\n" in markdown
     page = MarkdownIt("commonmark").render(markdown)
