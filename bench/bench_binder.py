@@ -28,12 +28,10 @@ from __future__ import annotations
 
 import argparse
 import os
-import resource
 import statistics
 import subprocess
 import sys
 import tempfile
-import time
 from pathlib import Path
 
 BENCH = Path(__file__).resolve().parent
@@ -42,7 +40,7 @@ sys.path.insert(0, str(BENCH))
 DEMO = REPO / "demo_protocol" / "plan.yaml"
 TARGET_RATIO = 1.3
 
-from bench_stats import Row  # noqa: E402  (the one row type of the benchmark tables)
+from _measure import Row, run_child  # noqa: E402  (the one row type and process measure of the benchmark tables)
 
 # WeasyPrint alone: the fonts are served from the packaged files by a plain function (no
 # protolint import), under the same URLs the document's stylesheet uses.
@@ -68,11 +66,6 @@ HTML(filename=html, url_fetcher=fetch).write_pdf(out, stylesheets=[css], font_co
 """
 
 
-def _cpu() -> float:
-    usage = resource.getrusage(resource.RUSAGE_CHILDREN)
-    return usage.ru_utime + usage.ru_stime
-
-
 def _environment(pycache: Path) -> dict[str, str]:
     """The environment of both sides: the repository on the path, no SOURCE_DATE_EPOCH, and
     Python's bytecode cache on, in a folder of the benchmark's own (``PYTHONPYCACHEPREFIX``).
@@ -92,9 +85,8 @@ def _environment(pycache: Path) -> dict[str, str]:
 
 def _run(command: list[str], env: dict[str, str]) -> tuple[float, float]:
     """(processor seconds, wall seconds) of one fresh process."""
-    cpu, start = _cpu(), time.perf_counter()
-    subprocess.run(command, check=True, cwd=REPO, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    return _cpu() - cpu, time.perf_counter() - start
+    child = run_child(command, env)
+    return child.cpu, child.wall
 
 
 def _medians(runs: list[tuple[float, float]]) -> tuple[float, float]:

@@ -10,8 +10,6 @@ Run: python bench/bench_bounds.py (or through bench/run_all.py)
 
 from __future__ import annotations
 
-import os
-import subprocess
 import sys
 import tempfile
 from pathlib import Path
@@ -19,25 +17,15 @@ from pathlib import Path
 import numpy as np
 
 REPO = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(REPO / "bench"))
 
-
-# The command is started by a small launcher process that reports the command's own usage. A
-# child forked straight from this (large) benchmark process would inherit its peak memory: Linux
-# carries the forking process's resident high-water mark across exec into ru_maxrss.
-_LAUNCHER = """
-import os, subprocess, sys
-process = subprocess.Popen(sys.argv[1:], stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-_, status, usage = os.wait4(process.pid, 0)
-print(usage.ru_utime + usage.ru_stime, usage.ru_maxrss, os.waitstatus_to_exitcode(status))
-"""
+from _measure import Row, run_child  # noqa: E402  (after the path is set)
 
 
 def measure(args: list[str]) -> tuple[float, float, int]:
     """CPU seconds, peak MB and exit code of one whole-process run."""
-    done = subprocess.run([sys.executable, "-c", _LAUNCHER, sys.executable, "-m", "protolint", *args], cwd=REPO,
-                          capture_output=True, text=True, check=True, env={**os.environ, "PYTHONPATH": str(REPO)})
-    cpu, peak_kib, code = done.stdout.split()
-    return float(cpu), int(peak_kib) / 1024, int(code)
+    run = run_child([sys.executable, "-m", "protolint", *args], accept=None)
+    return run.cpu, run.peak_mb, run.code
 
 
 def write(path: Path, header: str, rows: np.ndarray, fmt: str = "{}") -> Path:
@@ -48,10 +36,10 @@ def write(path: Path, header: str, rows: np.ndarray, fmt: str = "{}") -> Path:
     return path
 
 
-def rows(quick: bool = False) -> list[tuple[str, str, str, bool]]:
+def rows(quick: bool = False) -> list[Row]:
     rng = np.random.default_rng(15)
     subjects = 20_000 if quick else 200_000
-    out: list[tuple[str, str, str, bool]] = []
+    out: list[Row] = []
     with tempfile.TemporaryDirectory() as folder:
         base = Path(folder)
         true = rng.normal(size=(subjects, 1))
@@ -74,15 +62,17 @@ def rows(quick: bool = False) -> list[tuple[str, str, str, bool]]:
         for name, args, expected, seconds_target in runs:
             seconds, peak, code = measure(args)
             met = code == expected and seconds <= seconds_target and peak <= 1024
-            out.append((name, f"exit {code}, {seconds:.2f} s CPU, {peak:.0f} MB",
+            out.append(Row(name, f"exit {code}, {seconds:.2f} s CPU, {peak:.0f} MB",
                         f"exit {expected}, <= {seconds_target:g} s, <= 1024 MB", met))
     return out
 
 
-def main() -> None:
-    for measure_name, result, target, met in rows(quick="--quick" in sys.argv):
-        print(f"{measure_name:<56} {result:<32} {target:<28} {'yes' if met else 'NO'}")
+def main() -> int:
+    from _table import print_table
+
+    table = rows(quick="--quick" in sys.argv)
+    return print_table("analysis bounds benchmark", [r.cells() for r in table], all(r.met for r in table), strict=False)
 
 
 if __name__ == "__main__":
-    main()
+    sys.exit(main())

@@ -23,7 +23,6 @@ Targets (issue 16):
 from __future__ import annotations
 
 import argparse
-import os
 import re
 import statistics
 import subprocess
@@ -32,12 +31,16 @@ import tempfile
 from pathlib import Path
 
 REPO = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(REPO / "bench"))
+
+from _measure import Row, bench_environment, run_child  # noqa: E402  (after the path is set)
+
 DEMO = REPO / "demo_protocol" / "plan.yaml"
 SCHEMA = REPO / "schemas" / "plan.schema.json"
 HEAVY = ("scipy", "matplotlib", "weasyprint", "pandas", "numpy")
 MANY = 500
 ENDPOINTS = 5000
-ENV = {**os.environ, "PYTHONPATH": str(REPO)}
+ENV = bench_environment()
 
 NAIVE = """\
 import json, sys
@@ -50,17 +53,10 @@ for path in sys.argv[2:]:
     print(path, len(list(validator.iter_errors(data))))
 """
 
-Row = tuple[str, str, str, bool]
-
-
 def cpu_seconds(command: list[str]) -> float:
-    """CPU time (user + system) of one run of ``command`` in a fresh process."""
-    process = subprocess.Popen(command, cwd=REPO, env=ENV, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
-    _, status, usage = os.wait4(process.pid, 0)
-    process.returncode = os.waitstatus_to_exitcode(status)
-    if process.returncode not in (0, 1):  # 1: findings at or above --fail-on; anything else is a failure
-        raise RuntimeError(f"{' '.join(command[:4])} … exited {process.returncode}")
-    return usage.ru_utime + usage.ru_stime
+    """CPU time (user + system) of one run of ``command`` in a fresh process (exit 1: findings
+    at or above --fail-on, a normal outcome here)."""
+    return run_child(command, ENV, accept=(0, 1)).cpu
 
 
 def side_by_side(commands: dict[str, list[str]], runs: int) -> dict[str, float]:
@@ -128,7 +124,7 @@ def rows(quick: bool = False) -> list[Row]:
     single = side_by_side({"check": [*check, str(DEMO)],
                            "floor": [sys.executable, "-c", "import yaml, jsonschema, click"]}, runs * 2)
     ratio = single["check"] / single["floor"]
-    out.append(("check, one plan (demo), whole process vs import floor (yaml, jsonschema, click)",
+    out.append(Row("check, one plan (demo), whole process vs import floor (yaml, jsonschema, click)",
                 f"{_ms(single['check'])} vs {_ms(single['floor'])} ({ratio:.2f}x)", "<= 2x the floor", ratio <= 2.0))
 
     with tempfile.TemporaryDirectory() as folder:
@@ -141,17 +137,17 @@ def rows(quick: bool = False) -> list[Row]:
             per_plan = many[name] / MANY
             ratio = many[name] / many["naive"]
             what = f"check, {MANY} distinct valid plans in one call, {label}"
-            out.append((f"{what}, time a plan", _ms(per_plan), "<= 8 ms a plan", per_plan <= 0.008))
-            out.append((f"{what}, vs naive script (PyYAML C loader + jsonschema)",
+            out.append(Row(f"{what}, time a plan", _ms(per_plan), "<= 8 ms a plan", per_plan <= 0.008))
+            out.append(Row(f"{what}, vs naive script (PyYAML C loader + jsonschema)",
                         f"{_ms(per_plan)} vs {_ms(naive_per_plan)} a plan ({ratio:.2f}x)", "<= 0.4x naive", ratio <= 0.4))
 
         large = many_endpoints(Path(folder), ENDPOINTS)
         seconds = side_by_side({"large": [*check, large]}, 1 if quick else 3)["large"]
-        out.append((f"check, one plan with {ENDPOINTS:,} endpoints (1.4 MB), whole process",
+        out.append(Row(f"check, one plan with {ENDPOINTS:,} endpoints (1.4 MB), whole process",
                     _ms(seconds), "<= 10 s", seconds <= 10.0))
 
     heavy = heavy_imports()
-    out.append(("check, heavy modules imported", ", ".join(heavy) if heavy else "none",
+    out.append(Row("check, heavy modules imported", ", ".join(heavy) if heavy else "none",
                 "none of " + ", ".join(HEAVY), not heavy))
     return out
 
@@ -161,10 +157,10 @@ def main() -> int:
     parser.add_argument("--quick", action="store_true", help="fewer repetitions")
     args = parser.parse_args()
     table = rows(quick=args.quick)
-    print(f"check benchmark, {os.cpu_count()} cores, CPU time of each process (median)")
-    for measure, result, target, met in table:
-        print(f"{measure} | {result} | {target} | {'yes' if met else 'NO'}")
-    return 0
+    from _table import print_table
+
+    return print_table("check benchmark, CPU time of each process (median)", [r.cells() for r in table],
+                       all(r.met for r in table), strict=False)
 
 
 if __name__ == "__main__":

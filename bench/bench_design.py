@@ -14,7 +14,6 @@ from __future__ import annotations
 import argparse
 import csv
 import statistics
-import subprocess
 import sys
 import tempfile
 import time
@@ -23,7 +22,9 @@ from pathlib import Path
 import numpy as np
 
 ROOT = Path(__file__).resolve().parents[1]
-sys.path.insert(0, str(ROOT))
+sys.path[:0] = [str(ROOT), str(ROOT / "bench")]
+
+from _measure import Row, run_child  # noqa: E402  (after the path is set)
 
 TARGET_SECONDS = 2.0
 OPTIONS = ["--effect-size", "0.4", "--power", "0.9", "--dropout", "0.1", "--cost-participant", "3000",
@@ -56,10 +57,8 @@ def in_process(path: Path) -> float:
 
 
 def whole_process(path: Path) -> float:
-    start = time.perf_counter()
-    subprocess.run([sys.executable, "-m", "protolint", "design", str(path), *OPTIONS, "--format", "json"],
-                   check=True, capture_output=True, cwd=ROOT)
-    return time.perf_counter() - start
+    """Wall seconds of one whole ``design`` process."""
+    return run_child([sys.executable, "-m", "protolint", "design", str(path), *OPTIONS, "--format", "json"]).wall
 
 
 def measure(repeat: int) -> tuple[float, float]:
@@ -73,13 +72,13 @@ def measure(repeat: int) -> tuple[float, float]:
     return library, process
 
 
-def rows(quick: bool = False) -> list[tuple[str, str, str, bool]]:
-    """``(measure, result, target, met)`` rows for the combined table (bench/run_all.py)."""
+def rows(quick: bool = False) -> list[Row]:
+    """The rows for the combined table (bench/run_all.py)."""
     library, process = measure(3 if quick else 5)
     what = "design, 200 x 10 x 4 pilot, k <= 10, m <= 10 (100 designs)"
     target = f"<= {TARGET_SECONDS:g} s"
-    return [(f"{what}, in-process (median)", f"{library:.2f} s", target, library <= TARGET_SECONDS),
-            (f"{what}, whole process (median, wall)", f"{process:.2f} s", target, process <= TARGET_SECONDS)]
+    return [Row(f"{what}, in-process (median)", f"{library:.2f} s", target, library <= TARGET_SECONDS),
+            Row(f"{what}, whole process (median, wall)", f"{process:.2f} s", target, process <= TARGET_SECONDS)]
 
 
 def main() -> int:

@@ -10,17 +10,17 @@ from __future__ import annotations
 import argparse
 import csv
 import os
-import resource
-import subprocess
 import sys
 import tempfile
-import time
 from datetime import date, timedelta
 from pathlib import Path
 
 import numpy as np
 
 REPO = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(REPO / "bench"))
+
+from _measure import Row, run_child  # noqa: E402  (after the path is set)
 
 
 def write_data(path: Path, raters: int, rounds: int, cases: int) -> int:
@@ -54,23 +54,14 @@ def run(args: list[str]) -> tuple[float, float]:
     CPU time is printed beside the wall clock because the benchmark machine is shared: under
     load the wall clock measures the neighbours as much as the command.
     """
-    env = dict(os.environ, PYTHONPATH=str(REPO))
-    before = resource.getrusage(resource.RUSAGE_CHILDREN)
-    start = time.perf_counter()
-    done = subprocess.run([sys.executable, "-m", "protolint", "drift", *args, "--fail-on", "never"],
-                          env=env, capture_output=True, text=True)
-    elapsed = time.perf_counter() - start
-    after = resource.getrusage(resource.RUSAGE_CHILDREN)
-    if done.returncode != 0:
-        raise SystemExit(done.stderr)
-    cpu = (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
-    return elapsed, cpu
+    child = run_child([sys.executable, "-m", "protolint", "drift", *args, "--fail-on", "never"])
+    return child.wall, child.cpu
 
 
 TARGET_SECONDS = 5.0
 
 
-def rows(quick: bool = False) -> list[tuple[str, str, str, bool]]:
+def rows(quick: bool = False) -> list[Row]:
     """``(measure, result, target, met)`` rows for the combined table (bench/run_all.py): each
     format's whole process at 500 raters x 40 rounds x 5 cases, median CPU time of 3 runs."""
     out = []
@@ -82,7 +73,7 @@ def rows(quick: bool = False) -> list[tuple[str, str, str, bool]]:
                     for _ in range(1 if quick else 3)]
             cpu = sorted(r[1] for r in runs)[len(runs) // 2]
             wall = sorted(r[0] for r in runs)[len(runs) // 2]
-            out.append((f"drift, 500 raters x 40 rounds x 5 cases ({count:,} rows), --format {fmt}, whole process",
+            out.append(Row(f"drift, 500 raters x 40 rounds x 5 cases ({count:,} rows), --format {fmt}, whole process",
                         f"{cpu:.2f} s CPU ({wall:.2f} s wall)", f"<= {TARGET_SECONDS:g} s", cpu <= TARGET_SECONDS))
     return out
 

@@ -34,7 +34,6 @@ import subprocess
 import sys
 import time
 from collections.abc import Callable
-from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
@@ -42,24 +41,13 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
+from _measure import Row  # noqa: E402  (the one row type of the benchmark tables)
+
 # Linearity is judged on the step from 10x to 100x the subjects, where both runs are out of
 # the processor's cache (from 1x the small run sits in cache and the ratio overstates the
 # growth); the bound is twice proportional, for load from other jobs. A quadratic method
 # would show 100x on that step.
 LINEAR_STEP = 20.0
-
-
-@dataclass(frozen=True)
-class Row:
-    """One line of the benchmark table."""
-
-    measure: str
-    result: str
-    target: str
-    met: bool
-
-    def cells(self) -> tuple[str, str, str, str]:
-        return (self.measure, self.result, self.target, "yes" if self.met else "NO")
 
 
 def median_time(fn: Callable[[], object], repeat: int) -> float:

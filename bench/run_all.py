@@ -2,8 +2,8 @@
 
 Imports every ``bench/bench_*.py`` that has a ``rows()`` function and prints their rows as one
 table, ``measure | result | target | met``, headed by the machine's core count, load and
-Python version. A row is a ``(measure, result, target, met)`` tuple or an object with those
-attributes (``bench_stats.Row``). Each module measures side by side within its own rows (a
+Python version. Every row is a ``_measure.Row``, and every whole-process figure comes from
+``_measure.run_child`` (the child's own CPU time and peak memory, with the wall clock). Each module measures side by side within its own rows (a
 ratio's two sides in the same run, medians of several runs); a module that fails to import or
 to measure gets one row saying so, and the others still run. Scripts without ``rows()`` are
 listed under the table: run them on their own.
@@ -60,11 +60,7 @@ def load(path: Path) -> ModuleType:
 
 
 def cells(row: Any) -> Cells:
-    if isinstance(row, tuple) and len(row) == 4:
-        measure, result, target, met = row
-    else:
-        measure, result, target, met = row.measure, row.result, row.target, row.met
-    return str(measure), str(result), str(target), "yes" if met else "NO"
+    return row.cells()
 
 
 def collect(paths: Iterable[Path], quick: bool) -> tuple[list[Cells], list[str]]:

@@ -17,19 +17,20 @@ def collector():
     return module
 
 
-def test_rows_of_every_kind_one_failure_and_a_script_without_rows(tmp_path: Path) -> None:
-    (tmp_path / "bench_tuples.py").write_text(
-        "def rows(quick=False):\n    return [('a', '1 s', '<= 2 s', True), ('b', '3 s', '<= 2 s', quick)]\n")
+def test_rows_one_failure_and_a_script_without_rows(tmp_path: Path) -> None:
+    (tmp_path / "bench_quick.py").write_text(
+        "from _measure import Row\n"
+        "def rows(quick=False):\n    return [Row('a', '1 s', '<= 2 s', True), Row('b', '3 s', '<= 2 s', quick)]\n")
     (tmp_path / "bench_objects.py").write_text(
-        "from types import SimpleNamespace as R\n"
-        "def rows():\n    return [R(measure='c', result='x', target='y', met=True)]\n")
+        "from _measure import Row\n"
+        "def rows():\n    return [Row('c', 'x', 'y', True), Row('d', 'x', 'y', False)]\n")
     (tmp_path / "bench_broken.py").write_text("def rows():\n    raise RuntimeError('no data')\n")
     (tmp_path / "bench_plain.py").write_text("print('a script of its own')\n")
     run_all = collector()
     paths = sorted(tmp_path.glob("bench_*.py"))
     table, without = run_all.collect(paths, quick=True)
     assert ("a", "1 s", "<= 2 s", "yes") in table and ("b", "3 s", "<= 2 s", "yes") in table
-    assert ("c", "x", "y", "yes") in table
+    assert ("c", "x", "y", "yes") in table and ("d", "x", "y", "NO") in table
     assert ("bench_broken.py: could not measure", "RuntimeError: no data", "-", "NO") in table
     assert without == ["bench_plain.py"]
     text = run_all.format_table(table)
