@@ -25,12 +25,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 from datetime import date, timedelta
 
-from protolint.plan.model import Plan, RaterPool, per_plan
+from protolint.plan.model import Plan, Rater, RaterPool, per_plan
 from protolint.plan.timeline import add_months, endpoints_first_assessment, pool_sites, study_window
 
 __all__ = [
     "CENTRAL", "MonitoringRound", "PoolSiteSpan", "monitoring_rounds", "pool_spans", "recertification_dates",
-    "rounds_between", "rounds_while_rating", "training_deadline",
+    "rostered_raters", "rounds_between", "rounds_while_rating", "training_deadline",
 ]
 
 CENTRAL = "central"
@@ -69,6 +69,29 @@ def pool_spans(plan: Plan, pool: RaterPool) -> tuple[PoolSiteSpan, ...]:
     if not sites:
         return (PoolSiteSpan(pool.id, CENTRAL, endpoints_first_assessment(plan, endpoints), last),)
     return tuple(PoolSiteSpan(pool.id, site, endpoints_first_assessment(plan, endpoints, site), last) for site in sites)
+
+
+def rostered_raters(plan: Plan, pool: str, site: str) -> tuple[Rater, ...]:
+    """The roster's raters of ``pool`` at ``site``, in roster order; every rater of the pool for ``CENTRAL``.
+
+    The checklist prints a row per rater and the calendar decides whether a site has named
+    raters from the same answer. The roster is indexed once per plan, so asking for every pool
+    and site stays linear in the roster's length.
+    """
+    in_pool, at_site = _roster_index(plan)
+    return in_pool.get(pool, ()) if site == CENTRAL else at_site.get((pool, site), ())
+
+
+@per_plan
+def _roster_index(plan: Plan) -> tuple[dict[str, tuple[Rater, ...]], dict[tuple[str, str], tuple[Rater, ...]]]:
+    in_pool: dict[str, list[Rater]] = {}
+    at_site: dict[tuple[str, str], list[Rater]] = {}
+    for rater in plan.roster:
+        in_pool.setdefault(rater.pool, []).append(rater)
+        if rater.site is not None:
+            at_site.setdefault((rater.pool, rater.site), []).append(rater)
+    return ({pool: tuple(raters) for pool, raters in in_pool.items()},
+            {key: tuple(raters) for key, raters in at_site.items()})
 
 
 def rounds_between(pool: str, site: str, start: date, end: date, interval_weeks: int) -> tuple[MonitoringRound, ...]:

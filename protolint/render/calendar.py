@@ -18,9 +18,10 @@ from datetime import date, datetime, time, timedelta, timezone
 
 from protolint import CAUTION, __version__
 from protolint.plan import LoadedPlan
-from protolint.plan.model import Plan, Rater
+from protolint.plan.model import Plan
 from protolint.plan.timeline import certification_expiry, study_window
-from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, recertification_dates, training_deadline
+from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, recertification_dates, rostered_raters
+from protolint.plan.monitoring import training_deadline
 from protolint.render.document import DocumentCheck, document_check, document_date, document_status, library_versions
 
 UID_DOMAIN = "protolint.invalid"
@@ -50,14 +51,6 @@ def dated_duties(plan: Plan) -> tuple[DatedDuty, ...]:
     duties: list[DatedDuty] = []
     study = plan.study.id
     end = study_window(plan).last
-    # Raters by pool and site, looked up per span: a scan of the roster per site would make a
-    # plan with thousands of sites and raters quadratic.
-    in_pool: dict[str, list[Rater]] = {}
-    at_site: dict[tuple[str, str], list[Rater]] = {}
-    for rater in plan.roster:
-        in_pool.setdefault(rater.pool, []).append(rater)
-        if rater.site is not None:
-            at_site.setdefault((rater.pool, rater.site), []).append(rater)
     for pool in plan.rater_pools:
         days_before = pool.training.days_before_first_rating if pool.training else None
         interval = pool.recertification.interval_months if pool.recertification else None
@@ -73,17 +66,14 @@ def dated_duties(plan: Plan) -> tuple[DatedDuty, ...]:
                 f"{study}: raters certified — {pool.label}, {where}",
                 f"Every rater of {pool.label} at {where} certified before the first rating on {span.first_rating.isoformat()}.",
                 (pool.id, span.site)))
-            rostered = in_pool.get(pool.id, []) if span.site == CENTRAL else at_site.get((pool.id, span.site), [])
-            if interval and not rostered:
+            if interval and not rostered_raters(plan, pool.id, span.site):
                 # No named raters yet: the pool's certifications fall due counted from first rating.
                 for due in recertification_dates(span.first_rating, interval, end):
                     duties.append(DatedDuty(
                         "recertification", due, f"{study}: recertification due — {pool.label}, {where}",
                         f"Certifications of {pool.label} at {where} made by {span.first_rating.isoformat()} fall due "
                         f"(every {interval} months).", (pool.id, span.site)))
-        for rater in plan.roster:
-            if rater.pool != pool.id:
-                continue
+        for rater in rostered_raters(plan, pool.id, CENTRAL):
             for cert in rater.certifications:
                 first_due = certification_expiry(cert, interval)
                 if first_due is None or first_due > end:

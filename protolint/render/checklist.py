@@ -24,7 +24,7 @@ from datetime import date
 from protolint.errors import LocatedError
 from protolint.plan import LoadedPlan
 from protolint.plan.model import Plan, RaterPool
-from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans
+from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, rostered_raters
 from protolint.plan.timeline import study_window
 from protolint.render.document import DocumentCheck, DocumentControl, document_control, valid_plan
 from protolint.render.document import Fact
@@ -229,7 +229,7 @@ def _chosen_site(plan: Plan, site: str | None) -> SiteChecklist | None:
 
 
 def _rostered(plan: Plan, pool: RaterPool, site_id: str) -> tuple[str, ...]:
-    return tuple(r.id for r in plan.roster if r.pool == pool.id and (site_id == CENTRAL or r.site == site_id))
+    return tuple(r.id for r in rostered_raters(plan, pool.id, site_id))
 
 
 def _blank_rows(pool: RaterPool) -> int:

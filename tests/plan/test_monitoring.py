@@ -28,6 +28,7 @@ from protolint.plan.monitoring import (
     add_months,  # re-exported from protolint.plan.timeline
     monitoring_rounds,
     recertification_dates,
+    rostered_raters,
     rounds_between,
     training_deadline,
 )
@@ -88,6 +89,17 @@ def test_central_pool_is_one_unit(demo_loaded) -> None:
     # + 31 = Oct 31 (45), + 30 = Nov 30 (75), + 9 = Dec 9 (84).
     assert rounds[CENTRAL][0].covers_from == date(2026, 9, 16)
     assert rounds[CENTRAL][0].due == date(2026, 12, 9)
+
+
+def test_rostered_raters_by_pool_and_site(demo_loaded) -> None:
+    # The demo roster (invented) lists R-S01-A at S01 and R-S02-A at S02, both SITE-DERM.
+    plan = demo_loaded.plan
+    assert [r.id for r in rostered_raters(plan, "SITE-DERM", "S01")] == ["R-S01-A"]
+    assert [r.id for r in rostered_raters(plan, "SITE-DERM", "S02")] == ["R-S02-A"]
+    assert rostered_raters(plan, "SITE-DERM", "S03") == ()
+    # Central: every rater of the pool, wherever the roster places them, in roster order.
+    assert [r.id for r in rostered_raters(plan, "SITE-DERM", CENTRAL)] == ["R-S01-A", "R-S02-A"]
+    assert rostered_raters(plan, "CENTRAL-READ", CENTRAL) == ()
 
 
 def test_pool_without_interval_has_no_rounds(minimal_loaded) -> None:
