@@ -4,7 +4,7 @@ The stress plan (``stress_plan.py``: INVENTED, 30 sites x 10 rostered raters, we
 monitoring for two years: 3,120 rounds, 31,200 rater rows) is rendered in-process after a
 warm-up render of the demo checklist (imports, fonts). Each measure is the median of
 ``--runs`` runs (default 3), wall and CPU time; the machine is shared, so CPU time is the
-steadier figure and the one judged. Rows (``rows()``, the shape of ``bench_stats.rows()``):
+steadier figure and the one judged. Rows (``rows()``, ``_measure.Row``; measured in-process):
 
 * the whole-study checklist PDF: target 30 s, with its pages and the time per page;
 * one site's copy (``--site S01``): reported, with its pages;
@@ -30,7 +30,7 @@ BENCH = Path(__file__).resolve().parent
 REPO = BENCH.parent
 sys.path[:0] = [str(REPO), str(BENCH)]
 
-from bench_stats import Row  # noqa: E402 - after the path is set
+from _measure import Row  # noqa: E402 - after the path is set
 from stress_plan import stress_plan_text  # noqa: E402
 
 TARGET_SECONDS = 30.0
