@@ -67,10 +67,15 @@ SHORT_DIGEST = 12
 """Hex digits of an SOP text's SHA-256 the reports people read show (JSON and SARIF give it all)."""
 
 
+def sop_text_names(plan: PlanResult) -> tuple[str, ...]:
+    """("sops/A.md 0f1c1bdcb512…", …): each SOP text the check read with the start of its digest,
+    for the reports people read; the digests identify the texts it saw."""
+    return tuple(f"{text.path} {text.sha256[:SHORT_DIGEST]}…" for text in plan.sop_texts)
+
+
 def sop_text_digests(plan: PlanResult) -> str:
-    """"sops/A.md 0f1c1bdcb512…, sops/B.md f0f9fb05f52e…": the SOP texts the check read, for the
-    reports people read ("" when the plan names none); the digests identify the texts it saw."""
-    return ", ".join(f"{text.path} {text.sha256[:SHORT_DIGEST]}…" for text in plan.sop_texts)
+    """"sops/A.md 0f1c1bdcb512…, sops/B.md f0f9fb05f52e…" ("" when the plan names none)."""
+    return ", ".join(sop_text_names(plan))
 
 
 def sop_texts_line(plan: PlanResult) -> str:

@@ -30,7 +30,7 @@ from protolint.report._common import (
     not_run_note,
     plan_counts,
     plural,
-    sop_text_digests,
+    sop_text_names,
     sorted_findings,
 )
 from protolint.rules.sources import split_sources
@@ -252,7 +252,7 @@ class PlanView:
     source_note: str
     not_run: str = ""
     """How many rules a schema problem kept from running, and which (empty when all ran)."""
-    sop_texts: str = ""
+    sop_texts: tuple[str, ...] = ()
     """The SOP texts the check read, with their SHA-256 (empty when the plan names none)."""
 
 
@@ -316,7 +316,7 @@ def _plan_view(index: int, plan: PlanResult, metas: Mapping[str, RuleMeta], poli
         chart_caption=caption,
         source_note=source_note,
         not_run=not_run_note(plan, with_ids=True) or "",
-        sop_texts=sop_text_digests(plan),
+        sop_texts=sop_text_names(plan),
     )
 
 
