@@ -121,18 +121,19 @@ def test_json_patch_turns_old_into_new(tmp_path, edits):
     assert jsonpatch.apply_patch(old.data, list(comparison.patch)) == new.data
 
 
-def test_cli_exit_codes_of_fail_on_new(cli_process, tmp_path):
+def test_cli_exit_codes_of_fail_on_new(cli, cli_process, tmp_path):
     old = write(tmp_path, "old.yaml", DEMO_TEXT)
     amended = write(tmp_path, "amended.yaml", edited(*AMENDMENT))
     interval = write(tmp_path, "interval.yaml", edited(INTERVAL))
+    # One real process for the exit codes a CI job sees; the rest in process (same exit codes).
     assert cli_process("diff", old, amended).returncode == 0
     assert cli_process("diff", old, amended, "--fail-on-new", "error").returncode == 1
     # The reverse direction introduces only the warning the amendment had resolved.
-    assert cli_process("diff", amended, old, "--fail-on-new", "error").returncode == 0
-    assert cli_process("diff", amended, old, "--fail-on-new", "warning").returncode == 1
+    assert cli("diff", amended, old, "--fail-on-new", "error").exit_code == 0
+    assert cli("diff", amended, old, "--fail-on-new", "warning").exit_code == 1
     # Shortening nothing and lengthening nothing new: 52 -> 30 weeks introduces no finding.
-    run = cli_process("diff", old, interval, "--fail-on-new", "note")
-    assert run.returncode == 0, run.stdout
+    run = cli("diff", old, interval, "--fail-on-new", "note")
+    assert run.exit_code == 0, run.stdout
     assert "monitoring interval of rater pool SITE-DERM: 52 → 30 weeks" in run.stdout
 
 
