@@ -45,15 +45,6 @@ def text_summary(comparison: PlanComparison) -> str:
             + (f", {texts['unreadable']} not compared (unreadable)" if texts["unreadable"] else ""))
 
 
-def text_lines_text(change: TextChange) -> str:
-    """Where the ``text_file`` key is in each plan file, as :func:`lines_text` says it for a change."""
-    if change.old_line is None:
-        return f"new line {change.new_line}"
-    if change.new_line is None:
-        return f"old line {change.old_line}"
-    return f"line {change.old_line} → {change.new_line}"
-
-
 def digests_text(change: TextChange) -> str:
     return f"SHA-256 {change.old_sha256 or '–'} → {change.new_sha256 or '–'}"
 
@@ -63,10 +54,12 @@ def omitted_text(change: TextChange) -> str:
             if change.diff_lines_omitted else "")
 
 
-def lines_text(change: Change) -> str:
-    if change.kind == "added":
+def lines_text(change: Change | TextChange) -> str:
+    """Where a change is in each plan file: its key's line in the version(s) that have it (an SOP
+    text's change is placed at its ``text_file`` key)."""
+    if change.old_line is None:
         return f"new line {change.new_line}"
-    if change.kind == "removed":
+    if change.new_line is None:
         return f"old line {change.old_line}"
     return f"line {change.old_line} → {change.new_line}"
 
@@ -93,7 +86,7 @@ def as_text(comparison: PlanComparison) -> str:
         out.append("Changes in the SOP texts")
         for text in comparison.sop_texts:
             out.append(f"  {text.kind:<10} {one_line(text.sentence)}")
-            out.append(f"             {one_line(text.pointer)}  ({text_lines_text(text)})")
+            out.append(f"             {one_line(text.pointer)}  ({lines_text(text)})")
             if text.kind != "unreadable":
                 out.append(f"             {digests_text(text)}")
             out += [f"             {one_line(problem)}" for problem in text.problems]
@@ -154,7 +147,7 @@ def as_markdown(comparison: PlanComparison) -> str:
 def _markdown_texts(texts: tuple[TextChange, ...], esc: Callable[[str], str]) -> list[str]:
     out = ["", "## Changes in the SOP texts", "", "| Change | What | Pointer (new version) | Lines | SHA-256 (old → new) |",
            "|---|---|---|---|---|"]
-    out += [f"| {text.kind} | {esc(text.sentence)} | {esc(text.pointer)} | {esc(text_lines_text(text))} "
+    out += [f"| {text.kind} | {esc(text.sentence)} | {esc(text.pointer)} | {esc(lines_text(text))} "
             f"| {esc(text.old_sha256 or '–')} → {esc(text.new_sha256 or '–')} |" for text in texts]
     for text in texts:
         if text.problems:
@@ -183,5 +176,5 @@ def as_html(comparison: PlanComparison) -> str:
         comparison=comparison, summary=summary(comparison), lines_text=lines_text, caution=CAUTION,
         introduced=comparison.with_status("introduced"), resolved=comparison.with_status("resolved"),
         unchanged=comparison.with_status("unchanged"), not_rechecked=comparison.with_status("not-rechecked"),
-        text_lines_text=text_lines_text, omitted_text=omitted_text, diff_line_class=diff_line_class,
+        omitted_text=omitted_text, diff_line_class=diff_line_class,
     )

@@ -19,6 +19,8 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from protolint.findings import pointer_from_path
+from protolint.report._common import location_text
+from protolint.wording import plural
 
 if TYPE_CHECKING:
     from protolint.findings import PlanResult
@@ -63,7 +65,7 @@ class TextChange:
         if self.kind == "changed":
             renamed = f", now {self.new_text_file}" if self.new_text_file != self.old_text_file else ""
             return (f"text of SOP {self.sop_id} ({self.old_text_file}{renamed}) changed: "
-                    f"{self.lines_added} {'line' if self.lines_added == 1 else 'lines'} added, "
+                    f"{plural(self.lines_added, 'line')} added, "
                     f"{self.lines_removed} removed")
         if self.kind == "added":
             return f"text of SOP {self.sop_id} added ({self.new_text_file})"
@@ -136,7 +138,7 @@ def _problem(source: LoadedSource, result: PlanResult, pointer: str, line: int, 
     """Why a text was not read, located, as the check of that version reported it."""
     finding = next((f for f in result.findings if f.rule in TEXT_RULES and f.pointer == pointer), None)
     if finding is not None:
-        return f"{finding.file}:{finding.location.line}:{finding.location.column}: {finding.message}"
+        return f"{location_text(finding)}: {finding.message}"
     # The policy switched the text-file rules off: the reason is not known, the place is.
     return f"{source.file}:{line}:{column}: SOP text file could not be read (the policy switched its check off)"
 
