@@ -19,6 +19,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
 
 from protolint.findings import pointer_from_path
+from protolint.plan.sop_texts import sop_label
 from protolint.report._common import location_text
 from protolint.wording import plural
 
@@ -123,8 +124,8 @@ def _named(source: LoadedSource, result: PlanResult) -> dict[str, _Named]:
     for index, sop in enumerate(sops):
         if not isinstance(sop, dict) or not isinstance(sop.get("text_file"), str):
             continue
-        # The id read_sop_texts gives the text; the first of a duplicated id (a schema finding) wins.
-        sop_id = sop["id"] if isinstance(sop.get("id"), str) else f"sops[{index}]"
+        # The first of a duplicated id (a schema finding) wins.
+        sop_id = sop_label(sop, index)
         path = ("sops", index, "text_file")
         pointer = pointer_from_path(path)
         span = source.source_map.span(path)

@@ -84,9 +84,14 @@ def read_sop_texts(source: LoadedSource) -> tuple[tuple[SopText, ...], tuple[Fin
             problems.append(finding_at(source, path, refused.rule, Severity.ERROR,
                                        f"SOP text file {written!r}: {refused}", at_key=True))
             continue
-        sop_id = sop["id"] if isinstance(sop.get("id"), str) else f"sops[{index}]"
-        texts.append(SopText(sop_id, index, written, text, hashlib.sha256(raw).hexdigest(), len(raw)))
+        texts.append(SopText(sop_label(sop, index), index, written, text, hashlib.sha256(raw).hexdigest(), len(raw)))
     return tuple(texts), tuple(problems)
+
+
+def sop_label(sop: dict, index: int) -> str:
+    """How a text is named in reports: its SOP's id, or its place in the list when the id is
+    missing or not text (a schema finding then says so)."""
+    return sop["id"] if isinstance(sop.get("id"), str) else f"sops[{index}]"
 
 
 def plan_folder(plan_file: str) -> FilePath:

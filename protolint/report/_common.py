@@ -73,14 +73,9 @@ def sop_text_names(plan: PlanResult) -> tuple[str, ...]:
     return tuple(f"{text.path} {text.sha256[:SHORT_DIGEST]}…" for text in plan.sop_texts)
 
 
-def sop_text_digests(plan: PlanResult) -> str:
-    """"sops/A.md 0f1c1bdcb512…, sops/B.md f0f9fb05f52e…" ("" when the plan names none)."""
-    return ", ".join(sop_text_names(plan))
-
-
 def sop_texts_line(plan: PlanResult) -> str:
-    """"SOP texts read (SHA-256): …", or "" when the plan names none."""
-    return f"SOP texts read (SHA-256): {sop_text_digests(plan)}" if plan.sop_texts else ""
+    """"SOP texts read (SHA-256): sops/A.md 0f1c1bdcb512…, …", or "" when the plan names none."""
+    return f"SOP texts read (SHA-256): {', '.join(sop_text_names(plan))}" if plan.sop_texts else ""
 
 
 def as_of_basis(result: CheckResult) -> str:
