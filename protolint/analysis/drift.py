@@ -887,8 +887,8 @@ def analyse(data: RatingData, loaded: LoadedPlan | None, options: Options) -> Dr
                    f"(pooled within-rater SD 0 on {df} degrees of freedom)")
             raise ProtolintError(f"drift: cannot estimate the SD that standardises the deviations of "
                                  f"{instrument_words(instrument)}: {why}; give --scale-sd")
-        scale_sd[instrument] = (sd, f"pooled within-rater SD of certification deviations, {len(chosen)} "
-                                    f"{'certified ' if passed else ''}{'rater' if len(chosen) == 1 else 'raters'}, {df} df")
+        scale_sd[instrument] = (sd, f"pooled within-rater SD of certification deviations, "
+                                    f"{plural(len(chosen), 'certified rater' if passed else 'rater')}, {df} df")
 
     roster = {r.id: r for r in plan.roster} if plan else {}
     results: list[RaterResult] = []
