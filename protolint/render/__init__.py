@@ -20,7 +20,6 @@ from protolint.plan import LoadedPlan
 
 if TYPE_CHECKING:
     from protolint.render.document import DocumentCheck
-    from protolint.render.pdf import PdfAttachment
 
 KINDS = ("manual", "checklist", "binder")
 FORMATS = ("pdf", "html", "markdown")
@@ -86,21 +85,21 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
     from pathlib import PurePath
 
     from protolint.render.document import document_check, document_date
-    from protolint.render.pdf import PdfSource, html_to_pdf
+    from protolint.render.pdf import PdfAttachment, PdfSource, html_to_pdf
 
     check = check or document_check(loaded)
     html = render_html(kind, loaded, paper, progress, site, check)
     assert loaded.plan is not None  # render_html has refused an invalid plan already
     day, _ = document_date(loaded.plan, as_of=check.given_as_of)
     name = PurePath(loaded.source.file).name
-    further: tuple[PdfAttachment, ...] = ()
+    plan_file = PdfAttachment(name, loaded.source.text,
+                              f"The measurement plan this document was generated from (SHA-256 {loaded.source.sha256})")
+    attachments: tuple[PdfAttachment, ...] = (plan_file,)
     if kind == "binder":
         from protolint.render.binder import sop_text_attachments
 
-        further = sop_text_attachments(loaded.plan, loaded.sop_texts)
-    source = PdfSource(document_date=day, attachment_name=name, attachment_text=loaded.source.text,
-                       attachment_description=f"The measurement plan this document was generated from (SHA-256 {loaded.source.sha256})",
-                       further_attachments=further)
+        attachments += sop_text_attachments(loaded.plan, loaded.sop_texts)
+    source = PdfSource(document_date=day, attachments=attachments)
     if progress:
         progress("laying out pages")
     return html_to_pdf(html, source, paper, progress)

@@ -201,7 +201,7 @@ def render_html(report: DesignReport, paper: str = "a4") -> str:
 
 
 def render_pdf(report: DesignReport, paper: str = "a4") -> bytes:
-    from protolint.render.pdf import PdfSource, html_to_pdf
+    from protolint.render.pdf import PdfSource, attachment_if_text, html_to_pdf
 
     html = render_html(report, paper)
     day, _ = document_date(report)
@@ -209,6 +209,5 @@ def render_pdf(report: DesignReport, paper: str = "a4") -> bytes:
 
     # The pilot file within the data readers' limits; a workbook or transport file is named, not attached.
     pilot_text = text_attachment(report.file)
-    return html_to_pdf(html, PdfSource(
-        document_date=day, attachment_name=os.path.basename(report.file), attachment_text=pilot_text,
-        attachment_description="The pilot ratings this report was computed from"), paper=paper)
+    return html_to_pdf(html, PdfSource(day, attachment_if_text(
+        os.path.basename(report.file), pilot_text, "The pilot ratings this report was computed from")), paper=paper)

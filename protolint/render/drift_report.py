@@ -168,9 +168,8 @@ def render_drift(report: DriftReport, fmt: str, attachment_text: str | None = No
         raise ValueError(f"format must be html or pdf, got {fmt!r}")
     from pathlib import PurePath
 
-    from protolint.render.pdf import PdfSource, html_to_pdf
+    from protolint.render.pdf import PdfSource, attachment_if_text, html_to_pdf
 
-    source = PdfSource(document_date=report.as_of, attachment_name=PurePath(report.data_file).name,
-                       attachment_text=attachment_text,
-                       attachment_description="The rating data this report was computed from")
+    source = PdfSource(report.as_of, attachment_if_text(PurePath(report.data_file).name, attachment_text,
+                                                        "The rating data this report was computed from"))
     return html_to_pdf(html, source, paper)

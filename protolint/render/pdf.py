@@ -77,16 +77,18 @@ class PdfAttachment:
     description: str
 
 
+def attachment_if_text(name: str, text: str | None, description: str) -> tuple[PdfAttachment, ...]:
+    """The file to embed, or none when it is not text to attach (a workbook is named instead)."""
+    return () if text is None else (PdfAttachment(name, text, description),)
+
+
 @dataclass(frozen=True)
 class PdfSource:
-    """What the PDF needs besides the HTML: its date, the file it was made from and any
-    further files whose content it prints (the binder's SOP texts), each embedded as is."""
+    """What the PDF needs besides the HTML: its date, and the files it was made from or prints
+    (the plan, the binder's SOP texts, an analysis's data), each embedded as is."""
 
     document_date: date
-    attachment_name: str | None = None
-    attachment_text: str | None = None
-    attachment_description: str | None = None
-    further_attachments: tuple[PdfAttachment, ...] = ()
+    attachments: tuple[PdfAttachment, ...] = ()
 
 
 @lru_cache(maxsize=1)
@@ -248,14 +250,10 @@ def html_to_pdf(html: str, source: PdfSource, paper: str = "a4",
         try:
             stylesheet = CSS(string=font_css() + page_size_css(paper), base_url=ASSET_ORIGIN,
                              url_fetcher=fetcher, font_config=font_config)
-            embedded = [] if source.attachment_text is None else [
-                PdfAttachment(source.attachment_name or "source", source.attachment_text,
-                              source.attachment_description or "")]
-            embedded.extend(source.further_attachments)
             attachments = [Attachment(string=item.text, base_url=ASSET_ORIGIN, url_fetcher=fetcher,
                                       name=item.name, description=item.description,
                                       created=stamp, modified=stamp, relationship="Source")
-                           for item in embedded]
+                           for item in source.attachments]
             document = HTML(string=html, base_url=ASSET_ORIGIN, url_fetcher=fetcher).render(
                 stylesheets=[stylesheet], font_config=font_config, pdf_variant=PDF_VARIANT)
             pdf = document.write_pdf(pdf_variant=PDF_VARIANT, attachments=attachments)
