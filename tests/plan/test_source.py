@@ -7,7 +7,7 @@ import time
 import pytest
 
 from protolint.errors import LocatedError
-from protolint.plan.source import MAX_BYTES, load_source
+from protolint.plan.source import MAX_BYTES, MAX_NODES, load_source
 
 
 def load(text: str | bytes):
@@ -105,6 +105,13 @@ def _laughs(anchor: str, separator: str, end: str) -> str:
 def test_billion_laughs_is_refused_before_expansion(text: str) -> None:
     # The expansion is counted on the node tree before any value is built: the message says so.
     assert "expands to more than" in error_of(text).reason
+
+
+def test_a_document_of_too_many_values_is_refused_without_any_alias() -> None:
+    # 200,001 one-digit values in a flow list: under the 2 MiB limit, over the value bound.
+    error = error_of("values: [" + ",".join(["1"] * (MAX_NODES + 1)) + "]\n")
+    assert f"the document holds more than {MAX_NODES} values" in error.reason
+    assert load("values: [" + ",".join(["1"] * (MAX_NODES - 2)) + "]\n").data["values"][-1] == 1
 
 
 def test_an_alias_inside_its_own_anchor_is_a_cycle() -> None:
