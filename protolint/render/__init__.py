@@ -62,12 +62,16 @@ def _fields(ctx: Any) -> dict[str, Any]:
 
 
 def render_html(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
-                site: str | None = None, check: DocumentCheck | None = None) -> str:
-    """One self-contained HTML file (inline CSS and SVG, no external resource)."""
+                site: str | None = None, check: DocumentCheck | None = None, *, pdf_edition: bool = False) -> str:
+    """One self-contained HTML file (inline CSS and SVG, no external resource).
+
+    ``pdf_edition``: the HTML that :func:`render_pdf` lays out, which may refer to the images
+    the PDF's locked fetcher serves (see :mod:`protolint.render.pdf`); a browser cannot load them.
+    """
     from protolint.render.environment import make_env
 
     ctx = build_context(kind, loaded, paper, progress, site, check)
-    return make_env().get_template(f"{kind}.html.j2").render(**_fields(ctx))
+    return make_env().get_template(f"{kind}.html.j2").render(**_fields(ctx), pdf_edition=pdf_edition)
 
 
 def render_markdown(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
@@ -85,10 +89,10 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
     from pathlib import PurePath
 
     from protolint.render.document import document_check, document_date
-    from protolint.render.pdf import PdfAttachment, PdfSource, html_to_pdf
+    from protolint.render.pdf import PdfAttachment, PdfImage, PdfSource, html_to_pdf
 
     check = check or document_check(loaded)
-    html = render_html(kind, loaded, paper, progress, site, check)
+    html = render_html(kind, loaded, paper, progress, site, check, pdf_edition=True)
     assert loaded.plan is not None  # render_html has refused an invalid plan already
     day, _ = document_date(loaded.plan, as_of=check.given_as_of)
     name = PurePath(loaded.source.file).name
@@ -99,7 +103,12 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
         from protolint.render.binder import sop_text_attachments
 
         attachments += sop_text_attachments(loaded.plan, loaded.sop_texts)
-    source = PdfSource(document_date=day, attachments=attachments)
+    images: tuple[PdfImage, ...] = ()
+    if kind == "checklist":
+        from protolint.render.checklist import pdf_images
+
+        images = pdf_images()
+    source = PdfSource(document_date=day, attachments=attachments, images=images)
     if progress:
         progress("laying out pages")
     return html_to_pdf(html, source, paper, progress)

@@ -28,6 +28,7 @@ from protolint.plan.monitoring import CENTRAL, monitoring_rounds, pool_spans, ro
 from protolint.plan.timeline import study_window
 from protolint.render.document import DocumentCheck, DocumentControl, document_control, valid_plan
 from protolint.render.document import Fact
+from protolint.render.pdf import PdfImage, asset_url
 from protolint.render.phrases import monitoring_facts
 from protolint.suggest import did_you_mean
 
@@ -44,6 +45,9 @@ MAX_FORM_ROWS = 100_000
 """Most rows (rater rows and round headings) one checklist may have: about 3,000 pages."""
 
 CENTRAL_NAME = "Central rating"
+
+RULE_COLOUR = "#9aa5b1"
+"""The form's rules, as print.css draws every table border."""
 
 
 @dataclass(frozen=True)
@@ -71,6 +75,22 @@ class FormGrid:
         return tuple(k * self.column_px for k in range(1, self.columns))
 
     @property
+    def column_rules_svg(self) -> str:
+        """The column rules as one SVG image, stretched over a form's rows in the PDF edition.
+
+        WeasyPrint draws an image once per form, but a gradient with four stops at every rule
+        costs about 8 ms a page of the stress plan to write (``bench/bench_checklist.py``).
+        """
+        rules = "".join(f'<rect x="{edge - 0.5}" y="0" width="1" height="1" fill="{RULE_COLOUR}"/>'
+                        for edge in self.edges_px)
+        return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{self.width_px}" height="1" '
+                f'viewBox="0 0 {self.width_px} 1" preserveAspectRatio="none">{rules}</svg>')
+
+    @property
+    def column_rules_url(self) -> str:
+        return asset_url(COLUMN_RULES_IMAGE)
+
+    @property
     def heading_lines(self) -> tuple[str, ...]:
         """The column headings of every round's form, as form lines."""
         return tuple(self.line(*row) for row in HEADINGS)
@@ -86,6 +106,13 @@ class FormGrid:
 
 
 GRID = FormGrid()
+
+COLUMN_RULES_IMAGE = "checklist/column-rules.svg"
+
+
+def pdf_images() -> tuple[PdfImage, ...]:
+    """The generated images the PDF edition of the checklist refers to (its column rules)."""
+    return (PdfImage(COLUMN_RULES_IMAGE, GRID.column_rules_svg),)
 
 RESULT_BOXES = "☐ yes  ☐ no"
 HEADINGS = (("Rater", "What was", "Within drift", "Rater's", "Reviewer's", "Comment"),

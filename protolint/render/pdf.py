@@ -6,6 +6,8 @@
   refused, and the refusal is fatal: rendering stops with an error instead of producing a
   document with a hole in it. The same fetcher goes to ``HTML()``, to every ``CSS()`` (which
   fetches ``@import`` with its own fetcher) and to the attachment.
+  A document may also hand the fetcher SVG images its own code generated (the checklist's
+  column rules), served under the same origin from memory.
 * **Fonts.** Bundled DejaVu faces (free licence, shipped beside the templates) are loaded
   through the fetcher with one ``FontConfiguration``, so a binder looks the same on every
   machine and every glyph is embedded.
@@ -77,6 +79,20 @@ class PdfAttachment:
     description: str
 
 
+@dataclass(frozen=True)
+class PdfImage:
+    """An SVG image the document's stylesheet refers to by :func:`asset_url`, made by the
+    document's own code (never read from a file) and served by the locked fetcher."""
+
+    name: str
+    svg: str
+
+
+def asset_url(name: str) -> str:
+    """The URL under which the fetcher serves the packaged or generated asset ``name``."""
+    return ASSET_ORIGIN + name
+
+
 def attachment_if_text(name: str, text: str | None, description: str) -> tuple[PdfAttachment, ...]:
     """The file to embed, or none when it is not text to attach (a workbook is named instead)."""
     return () if text is None else (PdfAttachment(name, text, description),)
@@ -89,6 +105,7 @@ class PdfSource:
 
     document_date: date
     attachments: tuple[PdfAttachment, ...] = ()
+    images: tuple[PdfImage, ...] = ()
 
 
 @lru_cache(maxsize=1)
@@ -97,7 +114,7 @@ def packaged_assets() -> Mapping[str, tuple[bytes, str]]:
     fonts = templates_dir() / "fonts"
     assets: dict[str, tuple[bytes, str]] = {}
     for _family, _weight, _style, file in _FONT_FACES:
-        assets[ASSET_ORIGIN + "fonts/" + file] = ((fonts / file).read_bytes(), "font/ttf")
+        assets[asset_url("fonts/" + file)] = ((fonts / file).read_bytes(), "font/ttf")
     return assets
 
 
@@ -152,8 +169,15 @@ def fetcher_class() -> type:
     return _fetcher_class()
 
 
-def make_fetcher():  # noqa: ANN201 - weasyprint has no type hints
-    return fetcher_class()(packaged_assets())
+def served_assets(images: tuple[PdfImage, ...] = ()) -> Mapping[str, tuple[bytes, str]]:
+    """URL -> (bytes, media type): the packaged fonts, and a document's own generated ``images``."""
+    generated = {asset_url(image.name): (image.svg.encode("utf-8"), "image/svg+xml") for image in images}
+    return {**packaged_assets(), **generated}
+
+
+def make_fetcher(images: tuple[PdfImage, ...] = ()):  # noqa: ANN201 - weasyprint has no type hints
+    """The locked fetcher, serving :func:`served_assets` and nothing else."""
+    return fetcher_class()(served_assets(images))
 
 
 class _Collector(logging.Handler):
@@ -242,7 +266,7 @@ def html_to_pdf(html: str, source: PdfSource, paper: str = "a4",
     from weasyprint.text.fonts import FontConfiguration
     from weasyprint.urls import FatalURLFetchingError
 
-    fetcher = make_fetcher()
+    fetcher = make_fetcher(source.images)
     font_config = FontConfiguration()
     stamp = _midnight(source.document_date)
     with _weasyprint_logs(progress) as collector, _source_date_epoch(source.document_date), \

@@ -122,6 +122,28 @@ def test_form_lines_reach_each_column_by_one_tab_and_cut_long_ids() -> None:
     assert GRID.edges_px == tuple(GRID.column_px * k for k in range(1, GRID.columns))
 
 
+def test_the_column_rules_image_has_one_rule_at_every_column_edge_and_stretches_to_the_form() -> None:
+    from xml.etree import ElementTree
+
+    svg = ElementTree.fromstring(GRID.column_rules_svg)
+    assert svg.get("viewBox") == f"0 0 {GRID.width_px} 1" and svg.get("preserveAspectRatio") == "none"
+    rules = [(float(r.get("x")), float(r.get("width"))) for r in svg]  # type: ignore[arg-type]
+    assert [x + width / 2 for x, width in rules] == [float(edge) for edge in GRID.edges_px]
+
+
+def test_only_the_pdf_edition_refers_to_the_generated_rules_and_the_html_file_rules_by_backgrounds() -> None:
+    from protolint.render import render_html
+
+    plan = loaded(plan_text(sites=1, roster={"S1": 2}))
+    for_pdf = render_html("checklist", plan, pdf_edition=True)
+    html_file = render("checklist", "html", plan)
+    assert f'url("{GRID.column_rules_url}")' in for_pdf and "text-decoration: underline" in for_pdf
+    # A browser cannot load the PDF's generated image, and does not underline tabs: the HTML
+    # file draws both rules as backgrounds and asks for them to be printed.
+    assert "assets.invalid" not in html_file and "text-decoration: underline" not in html_file
+    assert "repeat-y" in html_file and "print-color-adjust: exact" in html_file
+
+
 def test_the_pdf_has_a_row_for_every_rostered_rater_in_every_round() -> None:
     pypdf = pytest.importorskip("pypdf")
     plan = loaded(plan_text(sites=1, roster={"S1": 3}))

@@ -7,7 +7,8 @@ object, svg image, base, inline style) and in Markdown form (images, inline link
 reference-style definitions, also inside list items and block quotes). The plan is rendered as
 every document in every format, and the test records
 
-* every URL handed to WeasyPrint's fetcher (only the packaged fonts may be served);
+* every URL handed to WeasyPrint's fetcher (only the packaged fonts, and the column rules the
+  checklist draws itself, may be served);
 * every file Python opens and every socket it connects, through an audit hook (PEP 578), and,
   where ``strace`` works, every file the whole process opens, C libraries included;
 * every request the local server receives (none may arrive);
@@ -35,6 +36,7 @@ import yaml
 from protolint.plan import load_plan, read_plan_file
 from protolint.plan.source import load_source
 from protolint.render import FORMATS, KINDS, render
+from protolint.render.checklist import pdf_images
 from tests.plan_tree import leaves, parent_of
 from tests.leak_server import leak_server
 
@@ -210,7 +212,7 @@ def test_rendering_fetches_and_opens_nothing_outside_the_package(kind: str, fmt:
             fetched.append(url)
             return super().fetch(url, headers)
 
-    monkeypatch.setattr(pdf_module, "make_fetcher", lambda: RecordingFetcher(pdf_module.packaged_assets()))
+    monkeypatch.setattr(pdf_module, "make_fetcher", lambda images=(): RecordingFetcher(pdf_module.served_assets(images)))
     plan_file = hostile_folder["plan"]
     with recorded_io() as log:
         loaded = read_plan_file(str(plan_file))
@@ -222,7 +224,10 @@ def test_rendering_fetches_and_opens_nothing_outside_the_package(kind: str, fmt:
     # The one process: numpy.testing (imported by scipy.special, which the exact sample-size
     # solver uses) asks `lscpu` about the processor when first imported; nothing from the plan.
     assert all(args[0] == "lscpu" for args in log["process"]), log["process"]
-    assert set(fetched) <= set(pdf_module.packaged_assets())
+    # The fonts, and the one image the checklist's own code draws (its column rules).
+    generated = {pdf_module.asset_url(image.name) for image in pdf_images()} if kind == "checklist" else set()
+    assert set(fetched) <= set(pdf_module.packaged_assets()) | generated
+    assert generated <= set(fetched) or fmt != "pdf"
     assert hostile_folder["requests"] == []
     body = output if isinstance(output, bytes) else output.encode()
     assert OUTSIDE_SECRET.encode() not in body and INSIDE_SECRET.encode() not in body
