@@ -6,7 +6,12 @@ warm-up render of the demo checklist (imports, fonts). Each measure is the media
 ``--runs`` runs (default 3), wall and CPU time; the machine is shared, so CPU time is the
 steadier figure and the one judged. Rows (``rows()``, ``_measure.Row``; measured in-process):
 
-* the whole-study checklist PDF: target 30 s, with its pages and the time per page;
+* the whole-study checklist PDF: target 30 s, with its pages and the time per page. The target
+  was set when the checklist had one row per round (about 150 pages); with a row for every
+  rostered rater it is some 1,050 pages, which no layout of three rounds to an A4 page can make
+  shorter, and WeasyPrint's own cost of a page of ruled text lines (about 70 ms on 2 cores:
+  margin boxes, one Pango line per row, drawing) puts it beyond 30 s (see the closing notes of
+  the speed issue for what was measured);
 * one site's copy (``--site S01``): reported, with its pages;
 * the HTML alone (the template and context): reported;
 * refusing ``raters_per_site: 1e18``: target under 1 s, i.e. refused before any row exists.
@@ -34,6 +39,8 @@ from _measure import Row  # noqa: E402 - after the path is set
 from stress_plan import stress_plan_text  # noqa: E402
 
 TARGET_SECONDS = 30.0
+TARGET_SET_FOR_PAGES = 150
+"""The stress checklist's length when the issue set its target: one row per round, not per rater."""
 
 
 def measure(fn: Callable[[], object], runs: int) -> tuple[float, float, object]:
@@ -70,8 +77,11 @@ def rows(runs: int = 3) -> list[Row]:
         wall, cpu, pdf = measure(lambda: render("checklist", "pdf", stress), runs)
         count = pages(pdf)  # type: ignore[arg-type]
         out.append(Row(f"checklist PDF, stress plan (30 sites x 10 raters, weekly, 2 years), median of {runs}",
-                       f"{cpu:.1f} s CPU ({wall:.1f} s wall), {count} pages, {cpu / count * 1e3:.0f} ms a page",
+                       f"{cpu:.1f} s CPU ({wall:.1f} s wall), {count} pages",
                        f"{TARGET_SECONDS:.0f} s", cpu <= TARGET_SECONDS))
+        out.append(Row("  the same, per page (the 30 s target was set for about 150 pages, before a row per rater)",
+                       f"{cpu / count * 1e3:.0f} ms a page",
+                       f"for information: {TARGET_SECONDS / TARGET_SET_FOR_PAGES * 1e3:.0f} ms a page then", True))
         wall, cpu, pdf = measure(lambda: render("checklist", "pdf", stress, site="S01"), runs)
         out.append(Row("checklist PDF, one site's copy (--site S01)",
                        f"{cpu:.1f} s CPU ({wall:.1f} s wall), {pages(pdf)} pages",  # type: ignore[arg-type]

@@ -6,8 +6,10 @@ plan's roster lists for that pool at that site; without a roster, numbered blank
 as the pool's ``raters_per_site`` (or :data:`DEFAULT_BLANK_ROWS`), for the site to fill in.
 
 The printed form is a grid of lines (:class:`FormGrid`): every row is one line of text whose
-cells are reached by tab stops one column apart, and the ruling comes from the rows' background
-(column rules) and underlines (row rules). WeasyPrint spends about five times as long per page
+cells are reached by tab stops one column apart. In the PDF the column rules are one generated
+image stretched over each form's rows (:attr:`FormGrid.column_rules_svg`, served by the PDF's
+locked fetcher) and the row rules are underlines; the HTML file, which a browser shows and
+prints, draws both as backgrounds. WeasyPrint spends about five times as long per page
 on a table with a cell per field (0.2 s against 0.04 s a page, measured on the stress plan of
 ``bench/bench_checklist.py``), and a two-year weekly schedule at thirty sites with ten raters
 each is 31,200 rows on a thousand pages.

@@ -249,6 +249,11 @@ def test_ctrl_c_during_a_pdf_render_ends_it_without_a_file(tmp_path: Path) -> No
         pytest.skip("the render finished before the signal could be sent")
     process.send_signal(signal.SIGINT)
     _, stderr = process.communicate(timeout=120)
-    assert process.returncode == 130, stderr
+    # Exit status 130, as a shell reports it. When the signal lands in code that an extension
+    # module's initialisation runs through PyRun_String (the imports are under way at 1.5 s on
+    # a loaded machine), CPython marks the KeyboardInterrupt as unhandled even though protolint
+    # caught it, and ends the process by SIGINT after the clean-up; a shell shows that as 130
+    # too, and Python's subprocess as -2. The line and the absence of a file are the same.
+    assert process.returncode in (130, -signal.SIGINT), stderr
     assert stderr.strip() == "protolint: interrupted; no output was written"
     assert list(tmp_path.iterdir()) == []
