@@ -116,6 +116,7 @@ def pdf_images() -> tuple[PdfImage, ...]:
     """The generated images the PDF edition of the checklist refers to (its column rules)."""
     return (PdfImage(COLUMN_RULES_IMAGE, GRID.column_rules_svg),)
 
+
 RESULT_BOXES = "☐ yes  ☐ no"
 HEADINGS = (("Rater", "What was", "Within drift", "Rater's", "Reviewer's", "Comment"),
             ("", "checked", "threshold?", "initials", "initials, date", ""))
