@@ -30,6 +30,8 @@ class Row:
     result: str
     target: str
     met: bool
+    why: str = ""
+    """For a missed target: why it is missed, printed under the table."""
 
     def cells(self) -> tuple[str, str, str, str]:
         return (self.measure, self.result, self.target, "yes" if self.met else "NO")

@@ -63,9 +63,12 @@ def cells(row: Any) -> Cells:
     return row.cells()
 
 
-def collect(paths: Iterable[Path], quick: bool) -> tuple[list[Cells], list[str]]:
+def collect(paths: Iterable[Path], quick: bool) -> tuple[list[Cells], list[str], list[tuple[str, str]]]:
+    """The table's cells, the scripts without ``rows()``, and (measure, why) of each missed
+    target whose row says why."""
     table: list[Cells] = []
     without: list[str] = []
+    reasons: list[tuple[str, str]] = []
     for path in paths:
         started = time.perf_counter()
         try:
@@ -77,11 +80,12 @@ def collect(paths: Iterable[Path], quick: bool) -> tuple[list[Cells], list[str]]
             takes_quick = "quick" in inspect.signature(function).parameters
             rows = function(quick=quick) if takes_quick else function()
             table += [cells(row) for row in rows]
+            reasons += [(row.measure, row.why) for row in rows if not row.met and getattr(row, "why", "")]
         except Exception as error:  # one broken benchmark must not hide the others' rows
             last = traceback.format_exception_only(type(error), error)[-1].strip()
             table.append((f"{path.name}: could not measure", last[:120], "-", "NO"))
         print(f"  {path.name}: {time.perf_counter() - started:.0f} s", file=sys.stderr, flush=True)
-    return table, without
+    return table, without, reasons
 
 
 def main() -> int:
@@ -92,13 +96,15 @@ def main() -> int:
     args = parser.parse_args()
     only = set(args.only.split(",")) if args.only else None
     print(f"collecting benchmarks ({os.cpu_count()} cores) ...", file=sys.stderr, flush=True)
-    table, without = collect(modules(only), args.quick)
+    table, without, reasons = collect(modules(only), args.quick)
     load_average = os.getloadavg()[0]
     print(f"protolint benchmark table: {os.cpu_count()} cores, load average {load_average:.1f} at the end, "
           f"Python {platform.python_version()}, {time.strftime('%Y-%m-%d %H:%M %Z')}")
     print(format_table(table))
     missed = [row for row in table if row[3] != "yes"]
     print(f"{len(table) - len(missed)} of {len(table)} targets met" + (f"; missed: {len(missed)}" if missed else ""))
+    for measure, why in reasons:
+        print(f"why missed: {measure.strip()}: {why}")
     if without:
         print("not in the table (no rows(); run on their own): " + ", ".join(without))
     return 1 if args.strict and missed else 0

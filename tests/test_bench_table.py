@@ -23,16 +23,17 @@ def test_rows_one_failure_and_a_script_without_rows(tmp_path: Path) -> None:
         "def rows(quick=False):\n    return [Row('a', '1 s', '<= 2 s', True), Row('b', '3 s', '<= 2 s', quick)]\n")
     (tmp_path / "bench_objects.py").write_text(
         "from _measure import Row\n"
-        "def rows():\n    return [Row('c', 'x', 'y', True), Row('d', 'x', 'y', False)]\n")
+        "def rows():\n    return [Row('c', 'x', 'y', True), Row('d', 'x', 'y', False, why='too few cores')]\n")
     (tmp_path / "bench_broken.py").write_text("def rows():\n    raise RuntimeError('no data')\n")
     (tmp_path / "bench_plain.py").write_text("print('a script of its own')\n")
     run_all = collector()
     paths = sorted(tmp_path.glob("bench_*.py"))
-    table, without = run_all.collect(paths, quick=True)
+    table, without, reasons = run_all.collect(paths, quick=True)
     assert ("a", "1 s", "<= 2 s", "yes") in table and ("b", "3 s", "<= 2 s", "yes") in table
     assert ("c", "x", "y", "yes") in table and ("d", "x", "y", "NO") in table
     assert ("bench_broken.py: could not measure", "RuntimeError: no data", "-", "NO") in table
     assert without == ["bench_plain.py"]
+    assert reasons == [("d", "too few cores")]  # only a missed row that says why
     text = run_all.format_table(table)
     assert text.splitlines()[0].split(" | ")[0].strip() == "measure" and len(text.splitlines()) == len(table) + 2
 
