@@ -15,7 +15,7 @@ from pathlib import Path
 
 from packaging.utils import canonicalize_name
 
-from protolint.render.document import RENDERING_LIBRARIES
+from protolint.render.document import COMPUTING_LIBRARIES, RENDERING_LIBRARIES
 
 REPO = Path(__file__).resolve().parents[1]
 PIN = re.compile(r"^([A-Za-z0-9][A-Za-z0-9._-]*)==([^\s;]+)$")
@@ -43,7 +43,8 @@ def _writer():
 def test_every_line_is_an_exact_pin_and_the_rendering_libraries_are_pinned() -> None:
     pins = _pins()
     assert len(pins) >= 20
-    for name in (*RENDERING_LIBRARIES, "icalendar", "pyyaml", "jsonschema", "click"):
+    computing = [name for names in COMPUTING_LIBRARIES.values() for name in names]
+    for name in (*RENDERING_LIBRARIES, *computing, "matplotlib", "icalendar", "pyyaml", "jsonschema", "click"):
         assert canonicalize_name(name) in pins, name
 
 

@@ -33,9 +33,14 @@ SIGNATURE_NOTE = (
 
 DOCUMENT_TITLES = {"manual": "Rater manual", "checklist": "Rater monitoring checklist", "binder": "SOP binder"}
 
-RENDERING_LIBRARIES = ("weasyprint", "pydyf", "fonttools", "jinja2", "markdown-it-py", "matplotlib")
-"""The libraries whose versions decide a document's bytes (layout, PDF writing, font subsets,
-templates, Markdown, charts); the document-control block names each installed version."""
+RENDERING_LIBRARIES = ("weasyprint", "pydyf", "fonttools", "jinja2", "markdown-it-py")
+"""The libraries whose versions decide every document's bytes (layout, PDF writing, font
+subsets, templates, Markdown); the document-control block names each installed version. The
+documents' charts are SVG that protolint draws itself, so no plotting library is among them."""
+
+COMPUTING_LIBRARIES = {"binder": ("numpy", "scipy")}
+"""Further libraries whose versions decide a document's numbers, by kind: the binder's
+sample-size appendix solves the exact noncentral-t power with scipy."""
 
 REPRODUCIBILITY_CLAIM = ("The same plan with the same protolint and library versions gives the same document; "
                          "a change to the plan needs a new document.")
@@ -257,7 +262,8 @@ def document_control(loaded: LoadedPlan, kind: str, paper: str, check: DocumentC
         sponsor=plan.study.sponsor, protocol=protocol, plan_file=PurePath(loaded.source.file).name,
         plan_sha256=loaded.source.sha256, plan_date=plan.plan_date, format_version=plan.format_version,
         tool_version=__version__, document_date=day, date_basis=basis, paper=paper,
-        status=document_status(plan, kind, check), policy=check.policy, libraries=library_versions())
+        status=document_status(plan, kind, check), policy=check.policy,
+        libraries=library_versions(RENDERING_LIBRARIES + COMPUTING_LIBRARIES.get(kind, ())))
 
 
 def valid_plan(loaded: LoadedPlan) -> Plan:
