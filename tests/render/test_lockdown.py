@@ -295,8 +295,16 @@ def _assert_inert_pdf(pdf: bytes, kind: str) -> None:
     import pypdf
 
     reader = pypdf.PdfReader(io.BytesIO(pdf))
-    text = "".join(page.extract_text() for page in reader.pages)
-    assert '<img src="file://' in text  # printed as text
+    # Text extraction is most of this test's time: the binder is read whole, to count the SOP
+    # texts it prints; the other documents only up to the first page that prints the markup.
+    texts = (page.extract_text() for page in reader.pages)
+    marker = '<img src="file://'  # printed as text
+    if kind == "binder":
+        text = "".join(texts)
+        assert marker in text
+        assert text.count("SOP text with every kind of reference.") == 3
+    else:
+        assert any(marker in page_text for page_text in texts)
     uris = []
     for page in reader.pages:
         for annotation in page.get("/Annots") or ():
@@ -310,8 +318,6 @@ def _assert_inert_pdf(pdf: bytes, kind: str) -> None:
     assert list(reader.attachments) == ["plan.yaml", *sop_texts]
     attached = b"".join(b"".join(contents) for contents in reader.attachments.values())
     assert OUTSIDE_SECRET.encode() not in attached and INSIDE_SECRET.encode() not in attached
-    if kind == "binder":
-        assert text.count("SOP text with every kind of reference.") == 3
 
 
 def test_whole_process_under_strace_opens_no_secret_and_connects_nowhere(hostile_folder, tmp_path: Path) -> None:
