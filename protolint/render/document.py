@@ -38,6 +38,10 @@ RENDERING_LIBRARIES = ("weasyprint", "pydyf", "fonttools", "jinja2", "markdown-i
 subsets, templates, Markdown); the document-control block names each installed version. The
 documents' charts are SVG that protolint draws itself, so no plotting library is among them."""
 
+ANALYSIS_LIBRARIES = ("numpy", "scipy", "matplotlib")
+"""The libraries whose versions decide an analysis report's numbers and charts (``drift`` and
+``design`` as HTML or PDF), which it names beside :data:`RENDERING_LIBRARIES`."""
+
 COMPUTING_LIBRARIES = {"binder": ("numpy", "scipy")}
 """Further libraries whose versions decide a document's numbers, by kind: the binder's
 sample-size appendix solves the exact noncentral-t power with scipy."""
@@ -161,6 +165,11 @@ def library_versions(names: tuple[str, ...] = RENDERING_LIBRARIES) -> tuple[Fact
         except metadata.PackageNotFoundError:
             rows.append(Fact(name, "not installed"))
     return tuple(rows)
+
+
+def analysis_library_versions() -> tuple[Fact, ...]:
+    """The versions an analysis report (drift, design) names: its layout's and its numbers'."""
+    return library_versions(RENDERING_LIBRARIES + ANALYSIS_LIBRARIES)
 
 
 @dataclass(frozen=True)

@@ -173,6 +173,11 @@ def test_html_report_escapes_names_from_the_data(tmp_path: Path) -> None:
     assert "<b>x</b>" not in out and "&lt;b&gt;x&lt;/b&gt;" in out
     assert "SHA-256 of the data file" in out and CAUTION.split(".")[0] in out
     assert out.count("<svg") == 2
+    from importlib import metadata
+
+    # The control block names the versions that computed the statistics and drew the charts.
+    for name in ("numpy", "scipy", "matplotlib", "weasyprint"):
+        assert f"{name} {metadata.version(name)}" in out, name
 
 
 def test_pdf_is_archival_and_carries_the_data(tmp_path: Path) -> None:

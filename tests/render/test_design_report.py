@@ -46,6 +46,16 @@ def test_html_carries_document_control_caution_and_three_charts(demo_html: str) 
     assert "The plan's own design" in demo_html
 
 
+def test_html_names_the_libraries_that_computed_drew_and_laid_it_out(demo_html: str) -> None:
+    from importlib import metadata
+
+    row = re.search(r'<th scope="row">Libraries</th><td>([^<]*)</td>', demo_html)
+    assert row is not None
+    named = dict(item.rsplit(" ", 1) for item in row.group(1).split(", "))
+    for name in ("numpy", "scipy", "matplotlib", "weasyprint", "jinja2"):
+        assert named[name] == metadata.version(name), name
+
+
 def test_html_is_the_same_for_the_same_inputs(demo_html: str) -> None:
     assert render_html(report_for(DEMO_PILOT)) == demo_html
 
