@@ -53,10 +53,12 @@ def emit(content: str | bytes, output: str | None, what: str, *, binary: bool = 
     from protolint.atomic import STDOUT
 
     if output and output != STDOUT:
-        from protolint.atomic import write_atomic
+        from protolint.atomic import is_discard, write_atomic
 
         write_atomic(output, content)
-        click.echo(f"protolint: wrote {what} to {output}", err=True)
+        # The null device takes the output without keeping it: say so rather than "wrote".
+        note = f"discarded {what} ({output} is the null device)" if is_discard(output) else f"wrote {what} to {output}"
+        click.echo(f"protolint: {note}", err=True)
         return
     if isinstance(content, bytes):
         if binary and sys.stdout.isatty():

@@ -97,6 +97,8 @@ def test_the_null_device_discards_the_output(arguments: tuple[str, ...], ratings
         assert result.returncode == 0, result.stderr
         assert result.stdout == ""
         assert "refusing" not in result.stderr
+        assert "protolint: wrote" not in result.stderr
+        assert f"({target} is the null device)" in result.stderr, result.stderr
     assert stat.S_ISCHR(os.stat(os.devnull).st_mode)
     assert null_link.is_symlink()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["discard.txt", "pilot.csv", "ratings.csv"]
