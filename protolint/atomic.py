@@ -118,8 +118,11 @@ def check_output(target: str | os.PathLike[str], inputs: Iterable[str | os.PathL
         device), or a dangling link.
     """
     path = Path(target)
-    if is_discard(path):
-        return path
+    return path if is_discard(path) else _writable_path(path, inputs)
+
+
+def _writable_path(path: Path, inputs: Iterable[str | os.PathLike[str]] | None) -> Path:
+    """:func:`check_output` for a target already known not to be the null device."""
     try:
         link = os.lstat(path)
     except FileNotFoundError:
@@ -220,16 +223,17 @@ def _remove(path: Path) -> None:
 
 
 def write_atomic(target: str | os.PathLike[str], content: str | bytes,
-                 inputs: Iterable[str | os.PathLike[str]] | None = None) -> None:
-    """Write ``content`` to ``target`` through a temporary file and a rename.
+                 inputs: Iterable[str | os.PathLike[str]] | None = None) -> bool:
+    """Write ``content`` to ``target`` through a temporary file and a rename; False when the
+    target is the null device and the content was discarded (nothing written), else True.
 
     ``inputs`` are the files the run read (default: those the running command recorded);
     the target may not be one of them. See the module docstring for what is refused.
     """
     path = Path(target)
-    real = check_output(path, inputs)
-    if is_discard(real):
-        return
+    if is_discard(path):
+        return False
+    real = _writable_path(path, inputs)
     data = content.encode("utf-8") if isinstance(content, str) else content
     folder = real.parent if str(real.parent) else Path(".")
     other_names = _other_names(real)
@@ -238,7 +242,7 @@ def write_atomic(target: str | os.PathLike[str], content: str | bytes,
         mode = _new_mode(real)
         if _link_anonymous(folder, real, data, mode):
             _warn_other_names(path, other_names)
-            return
+            return True
         temporary = _part_name(folder, real)
         fd = os.open(temporary, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
     except OSError as error:
@@ -257,6 +261,7 @@ def write_atomic(target: str | os.PathLike[str], content: str | bytes,
             raise ProtolintError(f"{path}: cannot write: {error.strerror}") from None
         raise
     _warn_other_names(path, other_names)
+    return True
 
 
 def _other_names(real: Path) -> int:

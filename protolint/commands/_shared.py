@@ -53,11 +53,10 @@ def emit(content: str | bytes, output: str | None, what: str, *, binary: bool = 
     from protolint.atomic import STDOUT
 
     if output and output != STDOUT:
-        from protolint.atomic import is_discard, write_atomic
+        from protolint.atomic import write_atomic
 
-        write_atomic(output, content)
-        # The null device takes the output without keeping it: say so rather than "wrote".
-        note = f"discarded {what} ({output} is the null device)" if is_discard(output) else f"wrote {what} to {output}"
+        kept = write_atomic(output, content)
+        note = f"wrote {what} to {output}" if kept else f"discarded {what} ({output} is the null device)"
         click.echo(f"protolint: {note}", err=True)
         return
     if isinstance(content, bytes):

@@ -147,6 +147,15 @@ def test_a_symlink_to_a_regular_file_is_written_through_and_kept(ratings: Path, 
     assert real.read_text(encoding="utf-8").startswith("{")
 
 
+def test_write_atomic_says_whether_it_kept_the_content(tmp_path: Path) -> None:
+    null_link = tmp_path / "discard.txt"
+    null_link.symlink_to(os.devnull)
+    assert atomic.write_atomic(os.devnull, "x") is False and atomic.write_atomic(null_link, "x") is False
+    assert null_link.is_symlink() and stat.S_ISCHR(os.stat(os.devnull).st_mode)
+    target = tmp_path / "kept.txt"
+    assert atomic.write_atomic(target, "x") is True and target.read_text(encoding="utf-8") == "x"
+
+
 def test_existing_mode_is_kept_and_a_new_file_honours_the_umask(tmp_path: Path) -> None:
     kept = tmp_path / "kept.txt"
     kept.write_text("old", encoding="utf-8")
