@@ -61,17 +61,21 @@ def _fields(ctx: Any) -> dict[str, Any]:
     return {field.name: getattr(ctx, field.name) for field in dataclasses.fields(ctx)}
 
 
+def _html(kind: str, ctx: Any, *, pdf_edition: bool) -> str:
+    from protolint.render.environment import make_env
+
+    return make_env().get_template(f"{kind}.html.j2").render(**_fields(ctx), pdf_edition=pdf_edition)
+
+
 def render_html(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
                 site: str | None = None, check: DocumentCheck | None = None, *, pdf_edition: bool = False) -> str:
     """One self-contained HTML file (inline CSS and SVG, no external resource).
 
     ``pdf_edition``: the HTML that :func:`render_pdf` lays out, which may refer to the images
-    the PDF's locked fetcher serves (see :mod:`protolint.render.pdf`); a browser cannot load them.
+    its context lists in ``pdf_images`` and the PDF's locked fetcher serves (see
+    :mod:`protolint.render.pdf`); a browser cannot load them.
     """
-    from protolint.render.environment import make_env
-
-    ctx = build_context(kind, loaded, paper, progress, site, check)
-    return make_env().get_template(f"{kind}.html.j2").render(**_fields(ctx), pdf_edition=pdf_edition)
+    return _html(kind, build_context(kind, loaded, paper, progress, site, check), pdf_edition=pdf_edition)
 
 
 def render_markdown(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
@@ -85,15 +89,20 @@ def render_markdown(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: 
 
 def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progress | None = None,
                site: str | None = None, check: DocumentCheck | None = None) -> bytes:
-    """PDF/A-3b with the plan file embedded; see :mod:`protolint.render.pdf`."""
+    """PDF/A-3b with the plan file embedded; see :mod:`protolint.render.pdf`.
+
+    A context that draws with generated images (the checklist's column rules) lists them in
+    its ``pdf_images``; the PDF's fetcher serves exactly those besides the packaged fonts.
+    """
     from pathlib import PurePath
 
     from protolint.render.document import document_check, document_date
-    from protolint.render.pdf import PdfAttachment, PdfImage, PdfSource, html_to_pdf
+    from protolint.render.pdf import PdfAttachment, PdfSource, html_to_pdf
 
     check = check or document_check(loaded)
-    html = render_html(kind, loaded, paper, progress, site, check, pdf_edition=True)
-    assert loaded.plan is not None  # render_html has refused an invalid plan already
+    ctx = build_context(kind, loaded, paper, progress, site, check)
+    html = _html(kind, ctx, pdf_edition=True)
+    assert loaded.plan is not None  # build_context has refused an invalid plan already
     day, _ = document_date(loaded.plan, as_of=check.given_as_of)
     name = PurePath(loaded.source.file).name
     plan_file = PdfAttachment(name, loaded.source.text,
@@ -103,12 +112,7 @@ def render_pdf(kind: str, loaded: LoadedPlan, paper: str = "a4", progress: Progr
         from protolint.render.binder import sop_text_attachments
 
         attachments += sop_text_attachments(loaded.plan, loaded.sop_texts)
-    images: tuple[PdfImage, ...] = ()
-    if kind == "checklist":
-        from protolint.render.checklist import pdf_images
-
-        images = pdf_images()
-    source = PdfSource(document_date=day, attachments=attachments, images=images)
+    source = PdfSource(document_date=day, attachments=attachments, images=getattr(ctx, "pdf_images", ()))
     if progress:
         progress("laying out pages")
     return html_to_pdf(html, source, paper, progress)

@@ -7,7 +7,7 @@ as the pool's ``raters_per_site`` (or :data:`DEFAULT_BLANK_ROWS`), for the site 
 
 The printed form is a grid of lines (:class:`FormGrid`): every row is one line of text whose
 cells are reached by tab stops one column apart. In the PDF the column rules are one generated
-image stretched over each form's rows (:attr:`FormGrid.column_rules_svg`, served by the PDF's
+image stretched over each form's rows (:attr:`FormGrid.column_rules_image`, served by the PDF's
 locked fetcher) and the row rules are underlines; the HTML file, which a browser shows and
 prints, draws both as backgrounds. WeasyPrint spends about five times as long per page
 on a table with a cell per field (0.2 s against 0.04 s a page, measured on the stress plan of
@@ -48,9 +48,6 @@ MAX_FORM_ROWS = 100_000
 
 CENTRAL_NAME = "Central rating"
 
-RULE_COLOUR = "#9aa5b1"
-"""The form's rules, as print.css draws every table border."""
-
 
 @dataclass(frozen=True)
 class FormGrid:
@@ -66,6 +63,8 @@ class FormGrid:
     column_px: int = 102
     cell_characters: int = 14
     """At 8 pt DejaVu Sans Mono (0.602 em a character) 14 characters and a space fit 102 px."""
+    rule_colour: str = "#9aa5b1"
+    """The form's rules and border, the colour print.css gives every table border."""
 
     @property
     def width_px(self) -> int:
@@ -77,16 +76,17 @@ class FormGrid:
         return tuple(k * self.column_px for k in range(1, self.columns))
 
     @property
-    def column_rules_svg(self) -> str:
+    def column_rules_image(self) -> PdfImage:
         """The column rules as one SVG image, stretched over a form's rows in the PDF edition.
 
         WeasyPrint draws an image once per form, but a gradient with four stops at every rule
         costs about 8 ms a page of the stress plan to write (``bench/bench_checklist.py``).
         """
-        rules = "".join(f'<rect x="{edge - 0.5}" y="0" width="1" height="1" fill="{RULE_COLOUR}"/>'
+        rules = "".join(f'<rect x="{edge - 0.5}" y="0" width="1" height="1" fill="{self.rule_colour}"/>'
                         for edge in self.edges_px)
-        return (f'<svg xmlns="http://www.w3.org/2000/svg" width="{self.width_px}" height="1" '
-                f'viewBox="0 0 {self.width_px} 1" preserveAspectRatio="none">{rules}</svg>')
+        return PdfImage(COLUMN_RULES_IMAGE, f'<svg xmlns="http://www.w3.org/2000/svg" width="{self.width_px}" '
+                                            f'height="1" viewBox="0 0 {self.width_px} 1" '
+                                            f'preserveAspectRatio="none">{rules}</svg>')
 
     @property
     def column_rules_url(self) -> str:
@@ -110,12 +110,7 @@ class FormGrid:
 GRID = FormGrid()
 
 COLUMN_RULES_IMAGE = "checklist/column-rules.svg"
-
-
-def pdf_images() -> tuple[PdfImage, ...]:
-    """The generated images the PDF edition of the checklist refers to (its column rules)."""
-    return (PdfImage(COLUMN_RULES_IMAGE, GRID.column_rules_svg),)
-
+"""The name the PDF's fetcher serves the grid's column rules under (``FormGrid.column_rules_image``)."""
 
 RESULT_BOXES = "☐ yes  ☐ no"
 HEADINGS = (("Rater", "What was", "Within drift", "Rater's", "Reviewer's", "Comment"),
@@ -193,6 +188,11 @@ class ChecklistContext:
     only_site: SiteChecklist | None = None
     """The site this copy is for (``render checklist --site``), None for the whole study."""
     grid: FormGrid = GRID
+
+    @property
+    def pdf_images(self) -> tuple[PdfImage, ...]:
+        """The generated images the PDF edition refers to: the grid's column rules."""
+        return (self.grid.column_rules_image,)
 
 
 def interval_words(weeks: int) -> str:

@@ -125,10 +125,13 @@ def test_form_lines_reach_each_column_by_one_tab_and_cut_long_ids() -> None:
 def test_the_column_rules_image_has_one_rule_at_every_column_edge_and_stretches_to_the_form() -> None:
     from xml.etree import ElementTree
 
-    svg = ElementTree.fromstring(GRID.column_rules_svg)
+    image = GRID.column_rules_image
+    assert GRID.column_rules_url.endswith("/" + image.name)
+    svg = ElementTree.fromstring(image.svg)
     assert svg.get("viewBox") == f"0 0 {GRID.width_px} 1" and svg.get("preserveAspectRatio") == "none"
     rules = [(float(r.get("x")), float(r.get("width"))) for r in svg]  # type: ignore[arg-type]
     assert [x + width / 2 for x, width in rules] == [float(edge) for edge in GRID.edges_px]
+    assert {r.get("fill") for r in svg} == {GRID.rule_colour}
 
 
 def test_only_the_pdf_edition_refers_to_the_generated_rules_and_the_html_file_rules_by_backgrounds() -> None:
