@@ -17,7 +17,7 @@ from typing import Any
 from protolint import CAUTION, __version__
 from protolint.analysis.design import COMPONENT_KEYS, COMPONENT_WORDS, DesignReport
 from protolint.render.charts import MATPLOTLIB_STYLE, inline_svg
-from protolint.render.document import Fact, analysis_library_versions
+from protolint.render.document import Fact, document_libraries, source_date_epoch
 from protolint.wording import plural
 
 _BLUE, _RED, _GOLD, _GREY = "#1f4e79", "#b03a2e", "#7a5c00", "#8a949e"
@@ -49,8 +49,6 @@ def document_date(report: DesignReport) -> tuple[date, str]:
     """The plan's date, else SOURCE_DATE_EPOCH, else the pilot file's modification date: never the clock."""
     if report.plan is not None:
         return report.plan.plan_date, "plan date"
-    from protolint.render.document import source_date_epoch
-
     epoch = source_date_epoch()
     if epoch is not None:
         return epoch, "SOURCE_DATE_EPOCH"
@@ -68,7 +66,7 @@ def _control(report: DesignReport, paper: str) -> DesignControl:
         study_id=study_id, study_title=study_title, sponsor=plan.sponsor if plan else None,
         data_file=report.file, data_sha256=report.sha256, plan_file=plan.file if plan else None,
         plan_sha256=plan.sha256 if plan else None, document_date=day, date_basis=basis,
-        tool_version=__version__, libraries=analysis_library_versions(), paper={"a4": "A4", "letter": "letter"}[paper], caution=CAUTION)
+        tool_version=__version__, libraries=document_libraries("design"), paper={"a4": "A4", "letter": "letter"}[paper], caution=CAUTION)
 
 
 def _figure(width: float, height: float):  # noqa: ANN202 - matplotlib objects

@@ -38,13 +38,14 @@ RENDERING_LIBRARIES = ("weasyprint", "pydyf", "fonttools", "jinja2", "markdown-i
 subsets, templates, Markdown); the document-control block names each installed version. The
 documents' charts are SVG that protolint draws itself, so no plotting library is among them."""
 
-ANALYSIS_LIBRARIES = ("numpy", "scipy", "matplotlib")
-"""The libraries whose versions decide an analysis report's numbers and charts (``drift`` and
-``design`` as HTML or PDF), which it names beside :data:`RENDERING_LIBRARIES`."""
-
-COMPUTING_LIBRARIES = {"binder": ("numpy", "scipy")}
-"""Further libraries whose versions decide a document's numbers, by kind: the binder's
-sample-size appendix solves the exact noncentral-t power with scipy."""
+COMPUTING_LIBRARIES = {
+    "binder": ("numpy", "scipy"),
+    "drift": ("numpy", "scipy", "matplotlib"),
+    "design": ("numpy", "scipy", "matplotlib"),
+}
+"""Further libraries whose versions decide a document's numbers or charts, by document: the
+binder's sample-size appendix solves the exact noncentral-t power with scipy; the drift and
+design reports compute with numpy and scipy and draw their charts with matplotlib."""
 
 REPRODUCIBILITY_CLAIM = ("The same plan with the same protolint and library versions gives the same document; "
                          "a change to the plan needs a new document.")
@@ -167,9 +168,10 @@ def library_versions(names: tuple[str, ...] = RENDERING_LIBRARIES) -> tuple[Fact
     return tuple(rows)
 
 
-def analysis_library_versions() -> tuple[Fact, ...]:
-    """The versions an analysis report (drift, design) names: its layout's and its numbers'."""
-    return library_versions(RENDERING_LIBRARIES + ANALYSIS_LIBRARIES)
+def document_libraries(kind: str) -> tuple[Fact, ...]:
+    """The versions document ``kind`` (a document kind, ``drift`` or ``design``) names in its
+    control block: the rendering libraries, and those that computed or drew its content."""
+    return library_versions(RENDERING_LIBRARIES + COMPUTING_LIBRARIES.get(kind, ()))
 
 
 @dataclass(frozen=True)
@@ -272,7 +274,7 @@ def document_control(loaded: LoadedPlan, kind: str, paper: str, check: DocumentC
         plan_sha256=loaded.source.sha256, plan_date=plan.plan_date, format_version=plan.format_version,
         tool_version=__version__, document_date=day, date_basis=basis, paper=paper,
         status=document_status(plan, kind, check), policy=check.policy,
-        libraries=library_versions(RENDERING_LIBRARIES + COMPUTING_LIBRARIES.get(kind, ())))
+        libraries=document_libraries(kind))
 
 
 def valid_plan(loaded: LoadedPlan) -> Plan:

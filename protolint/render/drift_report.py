@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING, Any
 
 from protolint import CAUTION, __version__
 from protolint.render.charts import MATPLOTLIB_STYLE, inline_svg
-from protolint.render.document import Fact, analysis_library_versions
+from protolint.render.document import Fact, document_libraries
 
 if TYPE_CHECKING:
     from protolint.analysis.drift import DriftReport, RaterResult
@@ -148,7 +148,7 @@ def _control(report: DriftReport, study_title: str | None, sponsor: str | None, 
     return DriftControl(
         title=TITLE, study_id=report.study or "Study not given", study_title=study_title or "No plan given",
         sponsor=sponsor, data_file=report.data_file, data_sha256=report.data_sha256, plan_file=report.plan_file,
-        plan_sha256=report.plan_sha256, as_of=report.as_of, tool_version=__version__, libraries=analysis_library_versions(), paper=paper)
+        plan_sha256=report.plan_sha256, as_of=report.as_of, tool_version=__version__, libraries=document_libraries("drift"), paper=paper)
 
 
 def render_drift(report: DriftReport, fmt: str, attachment_text: str | None = None,
