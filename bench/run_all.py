@@ -80,7 +80,7 @@ def collect(paths: Iterable[Path], quick: bool) -> tuple[list[Cells], list[str],
             takes_quick = "quick" in inspect.signature(function).parameters
             rows = function(quick=quick) if takes_quick else function()
             table += [cells(row) for row in rows]
-            reasons += [(row.measure, row.why) for row in rows if not row.met and getattr(row, "why", "")]
+            reasons += [(row.measure, row.why) for row in rows if not row.met and row.why]
         except Exception as error:  # one broken benchmark must not hide the others' rows
             last = traceback.format_exception_only(type(error), error)[-1].strip()
             table.append((f"{path.name}: could not measure", last[:120], "-", "NO"))
